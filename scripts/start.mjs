@@ -1,0 +1,55 @@
+#!/usr/bin/env node
+// `npm start`: installs what is missing, starts PostgreSQL and the local fakes
+// on loopback, migrates, seeds the demo when empty, builds, and serves.
+// Ctrl-C stops everything it started.
+import { existsSync, readdirSync } from "node:fs";
+import path from "node:path";
+import { root, log, fail, run, ensureNodeModules, portFree, spawn } from "./lib.mjs";
+import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
+import { startFakes } from "./fakes.mjs";
+
+const port = Number(process.env.PORT ?? 3000);
+const dev = process.argv.includes("--dev");
+
+if (!(await portFree(port))) fail(`port ${port} is already in use: stop what runs there or set PORT=…`);
+ensureNodeModules();
+
+const children = [];
+let pg = null;
+function stopAll(code = 0) {
+  for (const child of children) if (child.exitCode === null) child.kill("SIGTERM");
+  pg?.stop();
+  process.exit(code);
+}
+process.on("SIGINT", () => stopAll(0));
+process.on("SIGTERM", () => stopAll(0));
+
+const env = { ...process.env, PORT: String(port), HOST: process.env.HOST ?? "127.0.0.1" };
+if (!process.env.DATABASE_URL) {
+  pg = await ensurePostgres();
+  ensureDatabase(pg, "tidemark");
+  env.DATABASE_URL = databaseUrl("tidemark");
+}
+Object.assign(env, await startFakes(children, "dev"));
+run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
+
+function launch(name, cmd, args) {
+  const child = spawn(cmd, args, { cwd: root, env, stdio: "inherit" });
+  child.on("exit", (code, signal) => {
+    if (signal !== "SIGTERM") {
+      log(`${name} stopped (${code ?? signal})`);
+      stopAll(code ?? 1);
+    }
+  });
+  children.push(child);
+  return child;
+}
+
+if (dev) {
+  launch("web", "npx", ["react-router", "dev", "--host", env.HOST, "--port", String(port)]);
+} else {
+  run("npx", ["react-router", "build"], { env });
+  launch("web", "npx", ["react-router-serve", "./build/server/index.js"]);
+}
+if (existsSync(path.join(root, "app/jobs/worker.server.ts"))) launch("worker", "npx", ["tsx", "app/jobs/worker.server.ts"]);
+log(`Tidemark on http://${env.HOST}:${port}  (Ctrl-C stops it)`);
