@@ -1,0 +1,144 @@
+import { describe, expect, it } from "vitest";
+import { Compressor, type CompressorSettings } from "./compressor.ts";
+import { gainReductionDb } from "./gain-computer.ts";
+import { GainSmoother } from "./gain-smoother.ts";
+import { RmsDetector } from "./rms-detector.ts";
+import { sine } from "./dynamics.test-util.ts";
+
+const FS = 48000;
+
+function settings(over: Partial<CompressorSettings>): CompressorSettings {
+  return { thresholdDb: -20, ratio: 4, kneeDb: 0, attackMs: 5, releaseMs: 50, makeupDb: 0, rmsWindowMs: 50, ...over };
+}
+
+/** Runs a mono signal through the detector, returns GR (dB) per frame. */
+function grTrace(comp: Compressor, signal: Float64Array): Float64Array {
+  const out = new Float64Array(signal.length);
+  const block = 1024;
+  const buf = new Float64Array(block);
+  const part = new Float64Array(block);
+  for (let off = 0; off < signal.length; off += block) {
+    const n = Math.min(block, signal.length - off);
+    buf.set(signal.subarray(off, off + n));
+    comp.detect([buf], n, part);
+    out.set(part.subarray(0, n), off);
+  }
+  return out;
+}
+
+describe("static curve (analytic: hard knee (L−T)(1−1/R); quadratic knee (1−1/R)(L−T+W/2)²/(2W))", () => {
+  it("pure function matches the formulas", () => {
+    expect(gainReductionDb(-30, -20, 4, 0)).toBe(0);
+    expect(gainReductionDb(-10, -20, 4, 0)).toBeCloseTo(7.5, 12);
+    // Knee W = 10 around T = −20: at L = T the reduction is slope·(W/2)²/(2W) = 0.75·25/20.
+    expect(gainReductionDb(-20, -20, 4, 10)).toBeCloseTo((0.75 * 25) / 20, 12);
+    expect(gainReductionDb(-25.0001, -20, 4, 10)).toBe(0);
+    // Continuous at the knee's upper edge.
+    expect(gainReductionDb(-15 - 1e-9, -20, 4, 10)).toBeCloseTo(gainReductionDb(-15 + 1e-9, -20, 4, 10), 6);
+  });
+
+  it.each([
+    [-6, 4, 0],
+    [-12, 2, 0],
+    [-18, 8, 0],
+    [-30, 4, 0],
+    [-20, 3, 12],
+    [-16, 3, 12],
+  ])("steady 1 kHz sine at %d dBFS peak, ratio %d, knee %d dB: GR within 0.05 dB", (peakDb, ratio, kneeDb) => {
+    const comp = new Compressor(FS, 1, settings({ ratio, kneeDb }), 1024);
+    const gr = grTrace(comp, sine(FS, 1000, 10 ** (peakDb / 20), FS));
+    // RMS of a sine = peak − 3.0103 dB.
+    const levelDb = peakDb + 10 * Math.log10(0.5);
+    const expected = gainReductionDb(levelDb, -20, ratio, kneeDb);
+    const tail = gr.subarray(FS - 4800);
+    const mean = tail.reduce((a, b) => a + b, 0) / tail.length;
+    expect(Math.abs(mean - expected)).toBeLessThan(0.05);
+  });
+});
+
+describe("time constants (analytic one-pole step response: 1 − 1/e at τ)", () => {
+  const crossing = (next: (i: number) => number, goal: (v: number) => boolean): number => {
+    for (let i = 0; i < FS * 10; i++) if (goal(next(i))) return i + 1;
+    return Infinity;
+  };
+
+  it.each([1, 10, 80, 300])("attack %d ms", (attackMs) => {
+    const s = new GainSmoother(FS, attackMs, 100);
+    const frames = crossing(() => s.next(10), (v) => v >= 10 * (1 - 1 / Math.E));
+    expect(Math.abs(frames / FS - attackMs / 1000)).toBeLessThan((0.02 * attackMs) / 1000 + 1 / FS);
+  });
+
+  it.each([5, 100, 1000, 3000])("release %d ms", (releaseMs) => {
+    const s = new GainSmoother(FS, 0.1, releaseMs);
+    for (let i = 0; i < FS; i++) s.next(10);
+    const frames = crossing(() => s.next(0), (v) => v <= 10 / Math.E);
+    expect(Math.abs(frames / FS - releaseMs / 1000)).toBeLessThan((0.02 * releaseMs) / 1000 + 1 / FS);
+  });
+
+  it("RMS detector follows P·(1 − a^(n+1)) on a level step", () => {
+    const windowMs = 20;
+    const d = new RmsDetector(FS, 2, windowMs);
+    const frames = 4800;
+    const l = new Float64Array(frames).fill(0.5);
+    const r = new Float64Array(frames).fill(-0.25);
+    const out = new Float64Array(frames);
+    d.process([l, r], frames, out);
+    const a = Math.exp(-1000 / (windowMs * FS));
+    for (const n of [0, 10, 959, 960, 2000, 4799]) expect(out[n]).toBeCloseTo(0.25 * (1 - a ** (n + 1)), 12);
+    // At t = τ (960 frames) the mean square is 1 − 1/e of the final value (max of the two channels).
+    expect(Math.abs(out[959] / 0.25 - (1 - 1 / Math.E))).toBeLessThan(0.001);
+  });
+});
+
+describe("auto release (our design targets, docs/auto-release.md)", () => {
+  const auto = settings({ thresholdDb: -30, ratio: 4, kneeDb: 0, attackMs: 5, releaseMs: "auto", rmsWindowMs: 5 });
+
+  function recoveryMs(gr: Float64Array, endFrame: number): number {
+    const grAtEnd = Math.max(...gr.subarray(endFrame - 480, endFrame));
+    for (let i = endFrame; i < gr.length; i++) if (gr[i] <= 0.1 * grAtEnd) return ((i - endFrame) / FS) * 1000;
+    return Infinity;
+  }
+
+  it("after a 20 ms burst the reduction falls to 10% of its peak within 150 ms", () => {
+    const burst = new Float64Array(FS);
+    burst.set(sine(960, 1000, 0.5, FS), 4800);
+    const gr = grTrace(new Compressor(FS, 1, auto, 1024), burst);
+    expect(Math.max(...gr)).toBeGreaterThan(6);
+    expect(recoveryMs(gr, 4800 + 960)).toBeLessThan(150);
+  });
+
+  it("after 3 s of about 6 dB reduction the recovery takes longer than 500 ms", () => {
+    // RMS −22 dBFS is 8 dB over −30 at ratio 4: 6 dB of reduction.
+    const signal = new Float64Array(5 * FS);
+    signal.set(sine(3 * FS, 1000, 10 ** (-19 / 20), FS));
+    const gr = grTrace(new Compressor(FS, 1, auto, 1024), signal);
+    expect(gr[3 * FS - 1]).toBeGreaterThan(5.8);
+    expect(gr[3 * FS - 1]).toBeLessThan(6.2);
+    expect(recoveryMs(gr, 3 * FS)).toBeGreaterThan(500);
+  });
+});
+
+describe("compressor audio path", () => {
+  it("applies the linked gain and makeup to both channels", () => {
+    const comp = new Compressor(FS, 2, settings({ thresholdDb: -60, ratio: 1, makeupDb: 6 }), 256);
+    const l = sine(256, 440, 0.1, FS);
+    const r = sine(256, 440, 0.2, FS);
+    const l0 = l.slice(), r0 = r.slice();
+    comp.process([l, r], 256);
+    for (let i = 0; i < 256; i++) {
+      expect(l[i]).toBeCloseTo(l0[i] * 10 ** (6 / 20), 12);
+      expect(r[i]).toBeCloseTo(r0[i] * 10 ** (6 / 20), 12);
+    }
+  });
+
+  it("sidechain high-pass keeps a 30 Hz tone from triggering reduction", () => {
+    const plain = new Compressor(FS, 1, settings({ thresholdDb: -20 }), 1024);
+    const filtered = new Compressor(FS, 1, settings({ thresholdDb: -20, sidechainHighPassHz: 200 }), 1024);
+    const tone = sine(FS, 30, 0.5, FS);
+    const a = grTrace(plain, tone), b = grTrace(filtered, tone);
+    // RMS −9 dBFS is 11 dB over −20 at ratio 4: about 8.25 dB of reduction.
+    expect(a[FS - 1]).toBeGreaterThan(7);
+    // 2nd-order high-pass at 200 Hz: 30 Hz is ~33 dB down, below the threshold.
+    expect(Math.max(...b.subarray(FS / 2))).toBe(0);
+  });
+});
