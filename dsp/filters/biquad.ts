@@ -1,0 +1,71 @@
+// Biquad filter processing: transposed direct form II, float64 state, one
+// state pair per channel. State carries over between blocks, so the block
+// size never changes the output.
+
+import type { BiquadCoeffs } from "./biquad-design.ts";
+
+// State below this is flushed to zero on every sample: it is inaudible
+// (-600 dB) and keeps silence from decaying into slow subnormal numbers.
+const FLUSH_BELOW = 1e-30;
+
+export class Biquad {
+  private b0 = 1;
+  private b1 = 0;
+  private b2 = 0;
+  private a1 = 0;
+  private a2 = 0;
+  private readonly s1: Float64Array;
+  private readonly s2: Float64Array;
+
+  constructor(coeffs: BiquadCoeffs, channels: number) {
+    if (!(channels >= 1)) throw new RangeError(`channels must be at least 1, got ${channels}`);
+    this.s1 = new Float64Array(channels);
+    this.s2 = new Float64Array(channels);
+    this.setCoeffs(coeffs);
+  }
+
+  get channels(): number {
+    return this.s1.length;
+  }
+
+  /** Changes the response; keeps the state (no click from clearing it). */
+  setCoeffs(c: BiquadCoeffs): void {
+    this.b0 = c.b0;
+    this.b1 = c.b1;
+    this.b2 = c.b2;
+    this.a1 = c.a1;
+    this.a2 = c.a2;
+  }
+
+  reset(): void {
+    this.s1.fill(0);
+    this.s2.fill(0);
+  }
+
+  /** Filters `frames` frames of every channel in place. */
+  process(channels: ArrayLike<Float64Array | Float32Array>, frames: number): void {
+    const n = Math.min(channels.length, this.s1.length);
+    for (let ch = 0; ch < n; ch++) this.processChannel(channels[ch], ch, frames);
+  }
+
+  /** Filters one channel's buffer in place with that channel's state. */
+  processChannel(buf: Float64Array | Float32Array, channel: number, frames: number): void {
+    const { b0, b1, b2, a1, a2 } = this;
+    let s1 = this.s1[channel];
+    let s2 = this.s2[channel];
+    for (let i = 0; i < frames; i++) {
+      const x = buf[i];
+      const y = b0 * x + s1;
+      s1 = b1 * x - a1 * y + s2;
+      s2 = b2 * x - a2 * y;
+      // Both at once: flushing one alone can excite a limit cycle.
+      if (s1 < FLUSH_BELOW && s1 > -FLUSH_BELOW && s2 < FLUSH_BELOW && s2 > -FLUSH_BELOW) {
+        s1 = 0;
+        s2 = 0;
+      }
+      buf[i] = y;
+    }
+    this.s1[channel] = s1;
+    this.s2[channel] = s2;
+  }
+}
