@@ -12,7 +12,7 @@
 // - stopband attenuation 120 dB by default; the Kaiser formulas below give
 //   passband ripple of the same order (1e-6, i.e. ~1e-5 dB).
 // - taps per phase = the Kaiser length estimate for that attenuation and
-//   transition width at the input rate, rounded up to an even number 2K
+//   transition width at the input rate, rounded up to a multiple of 4, 2K
 //   (184 for 48->44.1, 336 for 96->48, 168 for 44.1->48; `design.tapsPerPhase`).
 // Kaiser's design formulas (from memory; Kaiser 1974, as printed in
 // Oppenheim & Schafer, "Discrete-Time Signal Processing"):
@@ -96,7 +96,8 @@ export function designResampler(inputRate: number, outputRate: number, options: 
   const lengthFrames = (stopbandDb - 8) / (2.285 * deltaOmega);
   // Half-width K must also exceed one output step in input frames, so the
   // history buffer never has to skip input (only matters for extreme ratios).
-  const halfTaps = Math.max(Math.ceil(lengthFrames / 2), Math.ceil(down / up) + 2);
+  // Even K, so 2K is a multiple of 4 for the unrolled inner loop.
+  const halfTaps = 2 * Math.ceil(Math.max(Math.ceil(lengthFrames / 2), Math.ceil(down / up) + 2) / 2);
   const tapsPerPhase = 2 * halfTaps;
   if (tapsPerPhase * up > MAX_TABLE_COEFFS) {
     throw new Error(`ratio ${outputRate}/${inputRate} needs ${tapsPerPhase * up} coefficients; not supported`);
@@ -257,12 +258,19 @@ export class Resampler {
         const x = history[ch];
         let acc0 = 0;
         let acc1 = 0;
-        // Two accumulators: shorter dependency chain, same result every run.
-        for (let k = 0; k < taps; k += 2) {
-          acc0 += table[coeffBase + k] * x[base + k];
-          acc1 += table[coeffBase + k + 1] * x[base + k + 1];
+        let acc2 = 0;
+        let acc3 = 0;
+        // Four accumulators: shorter dependency chains; the order of the sums
+        // is fixed, so the result is the same on every run and block size.
+        for (let k = 0; k < taps; k += 4) {
+          const c = coeffBase + k;
+          const i = base + k;
+          acc0 += table[c] * x[i];
+          acc1 += table[c + 1] * x[i + 1];
+          acc2 += table[c + 2] * x[i + 2];
+          acc3 += table[c + 3] * x[i + 3];
         }
-        output[ch][offset + count] = acc0 + acc1;
+        output[ch][offset + count] = acc0 + acc1 + (acc2 + acc3);
       }
       count++;
       index += this.stepFrames;
