@@ -1,0 +1,42 @@
+// Seeded pseudo-random numbers (xoshiro128**, Blackman & Vigna), so dithered
+// renders are deterministic. 32-bit state words via Math.imul.
+
+export class Prng {
+  private a: number;
+  private b: number;
+  private c: number;
+  private d: number;
+
+  constructor(seed: number) {
+    // splitmix32 spreads the seed over the four state words.
+    let s = seed >>> 0;
+    const next = (): number => {
+      s = (s + 0x9e3779b9) >>> 0;
+      let z = s;
+      z = Math.imul(z ^ (z >>> 16), 0x85ebca6b);
+      z = Math.imul(z ^ (z >>> 13), 0xc2b2ae35);
+      return (z ^ (z >>> 16)) >>> 0;
+    };
+    this.a = next();
+    this.b = next();
+    this.c = next();
+    this.d = next() | 1;
+  }
+
+  /** Uniform in [0, 1) with 32 random bits. */
+  next(): number {
+    const result = Math.imul(rotl(Math.imul(this.b, 5), 7), 9) >>> 0;
+    const t = this.b << 9;
+    this.c ^= this.a;
+    this.d ^= this.b;
+    this.b ^= this.c;
+    this.a ^= this.d;
+    this.c ^= t;
+    this.d = rotl(this.d, 11);
+    return result / 4294967296;
+  }
+}
+
+function rotl(x: number, k: number): number {
+  return (x << k) | (x >>> (32 - k));
+}
