@@ -9,6 +9,8 @@ import { WaveFile } from "wavefile";
 import { BEXT_FIXED_BYTES, buildBextChunk, buildBextPayload, emptyBext, encodeLoudness, parseBextPayload } from "./bext.ts";
 import type { Bext } from "./bext.ts";
 import { readBextFromWav, writeBextIntoWav } from "./bext-wav.ts";
+import { openWav } from "../io/wav-reader.ts";
+import { createWavWriter } from "../io/wav-writer.ts";
 
 const dir = mkdtempSync(join(tmpdir(), "tidemark-bext-"));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -206,6 +208,58 @@ describe("bext in a WAV file", () => {
     expect(tags.creation_time).toBe(bext.originationTime);
     expect(tags.time_reference).toBe(String(bext.timeReferenceFrames));
     expect(tags.coding_history).toContain("ISRC:ZZTDM2600001");
+  });
+
+  for (const [bitDepth, float] of [[24, false], [32, true], [16, false]] as const) {
+    it(`works on a file from our writer (${float ? "float" : "PCM"} ${bitDepth}-bit, odd frame count): our reader gets the same samples`, async () => {
+      const path = join(dir, `ours-${bitDepth}.wav`);
+      const frames = 1001;
+      const left = new Float64Array(frames).map((_, n) => Math.round(0.4 * Math.sin(n / 5) * 2 ** 15) / 2 ** 15);
+      const right = new Float64Array(frames).map((_, n) => Math.round(-0.3 * Math.cos(n / 9) * 2 ** 15) / 2 ** 15);
+      const writer = await createWavWriter(path, { sampleRate: 44100, channels: bitDepth === 16 ? 1 : 2, bitDepth, float });
+      await writer.write([left, right], frames);
+      await writer.close();
+      await writeBextIntoWav(path, sampleBext());
+      expect((await readBextFromWav(path))?.description).toBe(sampleBext().description);
+      expect(readFileSync(path).readUInt32LE(4)).toBe(statSync(path).size - 8);
+      const reader = await openWav(path);
+      expect(reader.format.frames).toBe(frames);
+      const got = [new Float64Array(frames), new Float64Array(frames)];
+      expect(await reader.read(got, frames)).toBe(frames);
+      await reader.close();
+      expect(got[0]).toEqual(left);
+      if (bitDepth !== 16) expect(got[1]).toEqual(right);
+    });
+  }
+
+  it("updates the riff size held in ds64 for an RF64 file", async () => {
+    const path = join(dir, "big.wav");
+    const fmt = Buffer.alloc(24);
+    fmt.write("fmt ", 0, "latin1");
+    fmt.writeUInt32LE(16, 4);
+    fmt.writeUInt16LE(1, 8); fmt.writeUInt16LE(1, 10); fmt.writeUInt32LE(48000, 12);
+    fmt.writeUInt32LE(96000, 16); fmt.writeUInt16LE(2, 20); fmt.writeUInt16LE(16, 22);
+    const audio = Buffer.alloc(202);
+    for (let i = 0; i < 101; i++) audio.writeInt16LE(i * 100 - 5000, 2 * i);
+    const ds64 = Buffer.alloc(36);
+    ds64.write("ds64", 0, "latin1");
+    ds64.writeUInt32LE(28, 4);
+    ds64.writeBigUInt64LE(BigInt(4 + 36 + 24 + 8 + 202), 8); // riff size
+    ds64.writeBigUInt64LE(202n, 16); // data size
+    ds64.writeBigUInt64LE(101n, 24); // sample count
+    const header = Buffer.alloc(12);
+    header.write("RF64", 0, "latin1"); header.writeUInt32LE(0xffffffff, 4); header.write("WAVE", 8, "latin1");
+    const dataHeader = Buffer.alloc(8);
+    dataHeader.write("data", 0, "latin1"); dataHeader.writeUInt32LE(0xffffffff, 4);
+    writeFileSync(path, Buffer.concat([header, ds64, fmt, dataHeader, audio]));
+    await writeBextIntoWav(path, sampleBext());
+    const file = readFileSync(path);
+    expect(file.toString("latin1", 0, 4)).toBe("RF64");
+    expect(file.readUInt32LE(4)).toBe(0xffffffff);
+    expect(Number(file.readBigUInt64LE(12 + 8))).toBe(file.length - 8);
+    expect(Number(file.readBigUInt64LE(12 + 16))).toBe(202);
+    expect(file.subarray(file.length - 202)).toEqual(audio);
+    expect((await readBextFromWav(path))?.isrc).toBe("ZZTDM2600001");
   });
 
   it("rejects a file that is not a WAV", async () => {
