@@ -1,0 +1,76 @@
+import { describe, expect, it } from "vitest";
+import { MultibandCompressor, type MultibandBandSettings } from "./multiband.ts";
+
+const FS = 48000;
+
+function band(over: Partial<MultibandBandSettings> = {}): MultibandBandSettings {
+  return { thresholdDb: -40, ratio: 1, kneeDb: 6, attackMs: 10, releaseMs: 100, makeupDb: 0, rmsWindowMs: 20, ...over };
+}
+
+/** Magnitude (dB) of a long impulse response at one frequency (direct DFT). */
+function magnitudeDb(h: Float64Array, freqHz: number): number {
+  let re = 0, im = 0;
+  for (let i = 0; i < h.length; i++) {
+    re += h[i] * Math.cos((2 * Math.PI * freqHz * i) / FS);
+    im -= h[i] * Math.sin((2 * Math.PI * freqHz * i) / FS);
+  }
+  return 10 * Math.log10(re * re + im * im);
+}
+
+describe("multiband", () => {
+  it("all ratios 1: the summed bands are all-pass, flat within ±0.01 dB from 20 Hz to 20 kHz (analytic: LR4 bands with all-pass compensation sum to an all-pass)", () => {
+    const mb = new MultibandCompressor(FS, 1, { crossoversHz: [90, 1000, 3000, 8000], bands: [band(), band(), band(), band(), band()] }, 4096);
+    const h = new Float64Array(FS);
+    h[0] = 1;
+    for (let off = 0; off < h.length; off += 4096) {
+      const n = Math.min(4096, h.length - off);
+      mb.process([h.subarray(off, off + n)], n);
+    }
+    for (const f of [20, 50, 90, 200, 700, 1000, 2000, 3000, 5000, 8000, 12000, 16000, 20000]) {
+      expect(Math.abs(magnitudeDb(h, f))).toBeLessThan(0.01);
+    }
+  });
+
+  it("a 5 kHz tone compresses only its own band; the other bands' GR stays zero", () => {
+    const mb = new MultibandCompressor(
+      FS,
+      2,
+      { crossoversHz: [90, 1000, 3000], bands: [band({ ratio: 2, thresholdDb: -30 }), band({ ratio: 2, thresholdDb: -30 }), band({ ratio: 2, thresholdDb: -30 }), band({ ratio: 2, thresholdDb: -30 })] },
+      4800,
+    );
+    const l = new Float64Array(4800), r = new Float64Array(4800);
+    const gr = new Float64Array(4);
+    let phase = 0;
+    for (let block = 0; block < 10; block++) {
+      for (let i = 0; i < 4800; i++, phase++) l[i] = r[i] = 0.5 * Math.sin((2 * Math.PI * 5000 * phase) / FS);
+      mb.process([l, r], 4800);
+      mb.takeGainReductionDb(gr);
+    }
+    expect(gr[3]).toBeGreaterThan(5);
+    // LR4 skirts at 5 kHz from a 3 kHz crossover: band 3 sees the tone ~9 dB down (it is 21 dB over threshold), so it reduces a little; bands 1 and 2 see nothing.
+    expect(gr[0]).toBe(0);
+    expect(gr[1]).toBe(0);
+  });
+
+  it("solo renders only the soloed band; per-band bypass leaves that band uncompressed", () => {
+    const bands = [band({ solo: true }), band(), band()];
+    const mb = new MultibandCompressor(FS, 1, { crossoversHz: [200, 2000], bands }, 4800);
+    const low = new Float64Array(4800).map((_, i) => 0.3 * Math.sin((2 * Math.PI * 5000 * i) / FS));
+    mb.process([low], 4800);
+    let peak = 0;
+    for (let i = 2400; i < 4800; i++) peak = Math.max(peak, Math.abs(low[i]));
+    // A 5 kHz tone is in band 3; band 1 (below 200 Hz) lets through < −60 dB of it.
+    expect(20 * Math.log10(peak / 0.3)).toBeLessThan(-60);
+
+    const byp = new MultibandCompressor(FS, 1, { crossoversHz: [1000], bands: [band(), band({ bypass: true, ratio: 20, thresholdDb: -60 })] }, 4800);
+    const x = new Float64Array(4800).map((_, i) => 0.5 * Math.sin((2 * Math.PI * 8000 * i) / FS));
+    byp.process([x], 4800);
+    const gr = new Float64Array(2);
+    byp.takeGainReductionDb(gr);
+    expect(gr[1]).toBe(0);
+    // RMS, not sample peak: the all-pass phase moves where the samples fall on the cycle.
+    let ms = 0;
+    for (let i = 2400; i < 4800; i++) ms += x[i] * x[i];
+    expect(Math.abs(10 * Math.log10(ms / 2400 / 0.125))).toBeLessThan(0.01);
+  });
+});
