@@ -1,0 +1,60 @@
+// Users and the membership that gives them a role in a studio.
+import { db } from "../lib/db.server.ts";
+import type { Role } from "../lib/roles.ts";
+
+export type CurrentUser = {
+  id: string;
+  email: string;
+  name: string;
+  studioId: string;
+  studioName: string;
+  role: Role;
+  clientId: string | null;
+  clientName: string | null;
+};
+
+export function normalizeEmail(email: string): string {
+  return email.trim().toLowerCase();
+}
+
+export async function findUserForSignIn(email: string) {
+  const user = await db("users")
+    .select("id", "password_hash")
+    .whereRaw("lower(email) = ?", [normalizeEmail(email)])
+    .first<{ id: string; password_hash: string } | undefined>();
+  if (!user) return undefined;
+  // First membership; a person in several studios picks one in a later issue.
+  const membership = await db("memberships")
+    .select("studio_id")
+    .where({ user_id: user.id })
+    .orderBy("created_at")
+    .first<{ studio_id: string } | undefined>();
+  return { id: user.id, passwordHash: user.password_hash, studioId: membership?.studio_id ?? null };
+}
+
+export async function getCurrentUser(userId: string, studioId: string): Promise<CurrentUser | undefined> {
+  const row = await db("users as u")
+    .join("memberships as m", "m.user_id", "u.id")
+    .join("studios as s", "s.id", "m.studio_id")
+    .leftJoin("clients as c", "c.id", "m.client_id")
+    .where({ "u.id": userId, "m.studio_id": studioId })
+    .first<
+      | { id: string; email: string; name: string; studio_id: string; studio_name: string; role: Role; client_id: string | null; client_name: string | null }
+      | undefined
+    >("u.id", "u.email", "u.name", "m.studio_id", "s.name as studio_name", "m.role", "m.client_id", "c.name as client_name");
+  if (!row) return undefined;
+  return {
+    id: row.id,
+    email: row.email,
+    name: row.name,
+    studioId: row.studio_id,
+    studioName: row.studio_name,
+    role: row.role,
+    clientId: row.client_id,
+    clientName: row.client_name,
+  };
+}
+
+export async function updateUserName(userId: string, name: string): Promise<void> {
+  await db("users").where({ id: userId }).update({ name });
+}

@@ -1,0 +1,23 @@
+import { type RouteConfig, index, layout, prefix, route } from "@react-router/dev/routes";
+
+// Every route, explicitly; files under routes/ that are not listed are not routes.
+export default [
+  route("sign-in", "routes/sign-in.tsx"),
+  route("sign-out", "routes/sign-out.tsx"),
+  route("invitations/:token", "routes/invitation.tsx"),
+  // Signed-in pages share the workspace layout with its navigation.
+  layout("routes/workspace.tsx", [
+    index("routes/dashboard.tsx"),
+    ...prefix("releases", [
+      index("routes/releases.tsx"),
+      route("new", "routes/release-new.tsx"),
+      route(":releaseId", "routes/release.tsx"),
+      route(":releaseId/edit", "routes/release-edit.tsx"),
+      route(":releaseId/tracks/new", "routes/track-new.tsx"),
+      route(":releaseId/tracks/:trackId", "routes/track.tsx"),
+      route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),
+    ]),
+    route("team", "routes/team.tsx"),
+    route("settings", "routes/settings.tsx"),
+  ]),
+] satisfies RouteConfig;

@@ -1,0 +1,83 @@
+import { Link } from "react-router";
+import type { Route } from "./+types/release";
+import { requireReleaseAccess } from "../lib/auth.server.ts";
+import { isStaff } from "../lib/roles.ts";
+import { listTracks } from "../models/track.server.ts";
+import { RELEASE_KIND_LABELS } from "../schemas/release.ts";
+import { formatIsrc } from "../schemas/track.ts";
+import { PageHeader } from "../components/page-header.tsx";
+import { StatusBadge } from "../components/status-badge.tsx";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { user, release } = await requireReleaseAccess(request, params.releaseId);
+  return { release, tracks: await listTracks(release.id), staff: isStaff(user.role) };
+}
+
+export default function Release({ loaderData }: Route.ComponentProps) {
+  const { release, tracks, staff } = loaderData;
+  return (
+    <>
+      <PageHeader
+        eyebrow={
+          <>
+            {release.clientName} · {RELEASE_KIND_LABELS[release.kind]}
+            {release.dueOn && (
+              <>
+                {" "}
+                · due <span className="num">{release.dueOn}</span>
+              </>
+            )}
+          </>
+        }
+        title={release.title}
+        actions={
+          staff && (
+            <>
+              <Link to={`/releases/${release.id}/tracks/new`} className="btn-primary">
+                Add track
+              </Link>
+              <Link to={`/releases/${release.id}/edit`} className="btn-quiet">
+                Edit release
+              </Link>
+            </>
+          )
+        }
+      />
+      <div className="mb-5">
+        <StatusBadge status={release.status} />
+      </div>
+      {tracks.length === 0 ? (
+        <p className="card px-5 py-8 text-center text-ink-soft">No tracks yet.</p>
+      ) : (
+        <div className="card overflow-x-auto">
+          <table className="data-table" aria-label="Tracks">
+            <thead>
+              <tr>
+                <th scope="col" className="w-14 text-right">
+                  No.
+                </th>
+                <th scope="col">Title</th>
+                <th scope="col">ISRC</th>
+              </tr>
+            </thead>
+            <tbody>
+              {tracks.map((track) => (
+                <tr key={track.id}>
+                  <td className="num text-right text-ink-soft">{track.position}</td>
+                  <td>
+                    <Link to={`/releases/${release.id}/tracks/${track.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                      {track.title}
+                    </Link>
+                  </td>
+                  <td className="num whitespace-nowrap">{track.isrc ? formatIsrc(track.isrc) : <span className="text-ink-faint">—</span>}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      )}
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.release.title ?? "Release"} · Tidemark` }];

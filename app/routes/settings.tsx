@@ -1,0 +1,65 @@
+import { data, Form } from "react-router";
+import type { Route } from "./+types/settings";
+import { z } from "zod";
+import { requireRole, requireUser } from "../lib/auth.server.ts";
+import { parseForm } from "../lib/forms.ts";
+import { renameStudio } from "../models/studio.server.ts";
+import { updateUserName } from "../models/user.server.ts";
+import { FormNotice, TextField } from "../components/field.tsx";
+import { PageHeader } from "../components/page-header.tsx";
+
+const nameSchema = z.object({ name: z.string().trim().min(1, "Enter a name").max(120, "At most 120 characters") });
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  return { name: user.name, email: user.email, studioName: user.studioName, owner: user.role === "owner" };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const form = await request.formData();
+  const intent = String(form.get("intent") ?? "");
+  // Renaming the studio is the owner's; anyone may rename themselves.
+  const user = intent === "studio" ? await requireRole(request, ["owner"]) : await requireUser(request);
+  const result = parseForm(nameSchema, form);
+  if (!result.ok) return data({ intent, errors: result.errors, values: result.values, saved: false }, { status: 400 });
+  if (intent === "studio") await renameStudio(user.studioId, result.data.name);
+  else await updateUserName(user.id, result.data.name);
+  return { intent, errors: {} as Record<string, string>, values: {} as Record<string, string>, saved: true };
+}
+
+export default function Settings({ loaderData, actionData }: Route.ComponentProps) {
+  const mine = actionData?.intent === "profile" ? actionData : undefined;
+  const studio = actionData?.intent === "studio" ? actionData : undefined;
+  return (
+    <>
+      <PageHeader title="Settings" />
+      <div className="grid max-w-4xl gap-6 md:grid-cols-2">
+        <Form method="post" className="card space-y-4 p-5" noValidate>
+          <h2 className="text-lg font-semibold">You</h2>
+          <input type="hidden" name="intent" value="profile" />
+          <FormNotice message={mine?.saved ? "Saved." : undefined} tone="info" />
+          <TextField label="Your name" name="name" defaultValue={mine?.values.name ?? loaderData.name} error={mine?.errors.name} />
+          <p className="text-sm text-ink-soft">
+            Signed in as <span className="break-all">{loaderData.email}</span>
+          </p>
+          <button type="submit" className="btn-quiet">
+            Save
+          </button>
+        </Form>
+        {loaderData.owner && (
+          <Form method="post" className="card space-y-4 p-5" noValidate>
+            <h2 className="text-lg font-semibold">Studio</h2>
+            <input type="hidden" name="intent" value="studio" />
+            <FormNotice message={studio?.saved ? "Saved." : undefined} tone="info" />
+            <TextField label="Studio name" name="name" defaultValue={studio?.values.name ?? loaderData.studioName} error={studio?.errors.name} />
+            <button type="submit" className="btn-quiet">
+              Save
+            </button>
+          </Form>
+        )}
+      </div>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Settings · Tidemark" }];

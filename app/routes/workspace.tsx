@@ -1,0 +1,63 @@
+import { Form, NavLink, Outlet } from "react-router";
+import type { Route } from "./+types/workspace";
+import { requireUser } from "../lib/auth.server.ts";
+import { isStaff } from "../lib/roles.ts";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  return { user: { name: user.name, role: user.role, studioName: user.studioName, clientName: user.clientName } };
+}
+
+const ROLE_LABELS = { owner: "Owner", engineer: "Engineer", client: "Client" } as const;
+
+export default function Workspace({ loaderData }: Route.ComponentProps) {
+  const { user } = loaderData;
+  const nav = [
+    { to: "/", label: "Dashboard", end: true, show: true },
+    { to: "/releases", label: "Releases", end: false, show: isStaff(user.role) },
+    { to: "/team", label: "Team", end: false, show: user.role === "owner" },
+    { to: "/settings", label: "Settings", end: false, show: true },
+  ].filter((item) => item.show);
+  return (
+    <div className="min-h-screen">
+      <header className="border-b border-rule bg-card/70">
+        <div className="mx-auto flex max-w-6xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-3 sm:px-6">
+          <NavLink to="/" className="flex items-center gap-2 font-semibold tracking-tight">
+            <img src="/favicon.svg" alt="" className="h-7 w-7" />
+            <span>Tidemark</span>
+          </NavLink>
+          <nav aria-label="Main" className="order-3 -mx-1 flex w-full gap-1 overflow-x-auto sm:order-none sm:w-auto">
+            {nav.map((item) => (
+              <NavLink
+                key={item.to}
+                to={item.to}
+                end={item.end}
+                className={({ isActive }) =>
+                  `rounded-md px-3 py-2 text-sm whitespace-nowrap ${isActive ? "bg-accent-wash font-medium text-accent-deep" : "text-ink-soft hover:bg-paper-deep"}`
+                }
+              >
+                {item.label}
+              </NavLink>
+            ))}
+          </nav>
+          <div className="ml-auto flex items-center gap-3">
+            <div className="text-right text-sm leading-tight">
+              <p className="font-medium">{user.name}</p>
+              <p className="text-ink-faint">
+                {ROLE_LABELS[user.role]} · {user.clientName ?? user.studioName}
+              </p>
+            </div>
+            <Form method="post" action="/sign-out">
+              <button type="submit" className="btn-quiet px-3">
+                Sign out
+              </button>
+            </Form>
+          </div>
+        </div>
+      </header>
+      <main className="mx-auto max-w-6xl px-4 py-6 sm:px-6 sm:py-8">
+        <Outlet />
+      </main>
+    </div>
+  );
+}
