@@ -1,0 +1,158 @@
+// Lookahead brickwall limiter.
+// Per frame: peak p (sample peak, or true peak from an oversampling detector)
+// → required gain r = min(1, ceiling/p) → running minimum over the lookahead
+// window (+hold) → one-pole release (instant attack, so the envelope never
+// exceeds the minimum) → boxcar average over lookahead+1 frames, which turns
+// the step into a linear ramp that has fully reached r when the peak leaves
+// the delay line (every value averaged is ≤ r). Audio is delayed by the
+// lookahead plus the detector's latency, so the gain lines up with it.
+// Output never exceeds the ceiling on the detected points; for true peak we
+// leave TRUE_PEAK_MARGIN_DB so the BS.1770 meter of the output reads at or
+// under the ceiling despite the gain changing between detected points.
+
+import type { GainReductionSource, Planar, Processor } from "../processor.ts";
+import { dbToLinear, msToFrames, timeConstantCoeff } from "../units.ts";
+import { SlidingMin } from "./sliding-min.ts";
+
+export interface LimiterSettings {
+  inputGainDb: number;
+  ceilingDbtp: number;
+  lookaheadMs: number;
+  releaseMs: number;
+  truePeak: boolean;
+}
+
+/** The shape of part of TruePeakDetector (dsp/loudness/true-peak.ts) we use. */
+export interface PerFramePeakDetector {
+  readonly latencyFrames: number;
+  reset(): void;
+  processPerFrame(channels: Planar, frames: number, outPeak: Float64Array): void;
+}
+
+// Headroom below the ceiling; sample peak: float rounding only.
+export const TRUE_PEAK_MARGIN_DB = 0.05;
+export const SAMPLE_PEAK_MARGIN_DB = 1e-6;
+
+export class Limiter implements Processor, GainReductionSource {
+  readonly latencyFrames: number;
+  readonly traceNames: readonly string[] = ["gr"];
+  private readonly inputGain: number;
+  private readonly ceiling: number;
+  private readonly lookaheadFrames: number;
+  private readonly delayFrames: number;
+  private readonly release: number;
+  private readonly hold: SlidingMin;
+  private readonly boxcar: Float64Array;
+  private readonly boxLength: number;
+  private boxIndex = 0;
+  private boxSum = 0;
+  private envelope = 1;
+  private readonly delay: Float64Array[];
+  private readonly peaks: Float64Array;
+  private minGain = 1;
+
+  constructor(
+    sampleRate: number,
+    readonly channels: number,
+    settings: LimiterSettings,
+    maxBlockFrames: number,
+    private readonly detector: PerFramePeakDetector | null = null,
+  ) {
+    this.inputGain = dbToLinear(settings.inputGainDb);
+    const marginDb = detector ? TRUE_PEAK_MARGIN_DB : SAMPLE_PEAK_MARGIN_DB;
+    this.ceiling = dbToLinear(settings.ceilingDbtp - marginDb);
+    this.lookaheadFrames = Math.max(1, msToFrames(settings.lookaheadMs, sampleRate));
+    const detectorLatency = detector ? detector.latencyFrames : 0;
+    this.delayFrames = this.lookaheadFrames + detectorLatency;
+    this.latencyFrames = this.delayFrames;
+    this.release = timeConstantCoeff(settings.releaseMs, sampleRate);
+    this.boxLength = this.lookaheadFrames + 1;
+    // True peak: hold one frame longer, so the frame after a detected peak is
+    // not already released (its inter-sample points depend on both).
+    this.hold = new SlidingMin(this.boxLength + (detector ? 1 : 0));
+    this.boxcar = new Float64Array(this.boxLength);
+    this.delay = Array.from({ length: channels }, () => new Float64Array(this.delayFrames + maxBlockFrames));
+    this.peaks = new Float64Array(maxBlockFrames);
+    this.reset();
+  }
+
+  reset(): void {
+    this.hold.reset();
+    this.boxcar.fill(1);
+    this.boxSum = this.boxLength;
+    this.boxIndex = 0;
+    this.envelope = 1;
+    for (const d of this.delay) d.fill(0);
+    this.detector?.reset();
+    this.minGain = 1;
+  }
+
+  process(channels: Planar, frames: number): void {
+    const nch = this.channels, delayFrames = this.delayFrames, g0 = this.inputGain;
+    for (let c = 0; c < nch; c++) {
+      const x = channels[c];
+      const line = this.delay[c];
+      for (let i = 0; i < frames; i++) {
+        const v = x[i] * g0;
+        x[i] = v;
+        line[delayFrames + i] = v;
+      }
+    }
+    const peaks = this.peaks;
+    if (this.detector) {
+      this.detector.processPerFrame(channels, frames, peaks);
+      // Also the sample itself, at the detector's delay (it is in the line).
+      const lag = this.lookaheadFrames;
+      for (let c = 0; c < nch; c++) {
+        const line = this.delay[c];
+        for (let i = 0; i < frames; i++) {
+          const a = Math.abs(line[lag + i]);
+          if (a > peaks[i]) peaks[i] = a;
+        }
+      }
+    } else {
+      peaks.fill(0, 0, frames);
+      for (let c = 0; c < nch; c++) {
+        const x = channels[c];
+        for (let i = 0; i < frames; i++) {
+          const a = Math.abs(x[i]);
+          if (a > peaks[i]) peaks[i] = a;
+        }
+      }
+    }
+    const ceiling = this.ceiling, rel = this.release, hold = this.hold, box = this.boxcar, boxLength = this.boxLength;
+    let env = this.envelope, sum = this.boxSum, bi = this.boxIndex, minGain = this.minGain;
+    for (let i = 0; i < frames; i++) {
+      const p = peaks[i];
+      const required = p > ceiling ? ceiling / p : 1;
+      const h = hold.push(required);
+      env = h < env ? h : h + rel * (env - h);
+      sum += env - box[bi];
+      box[bi] = env;
+      if (++bi === boxLength) {
+        bi = 0;
+        // Re-add exactly once per window so rounding cannot accumulate.
+        sum = 0;
+        for (let k = 0; k < boxLength; k++) sum += box[k];
+      }
+      const g = sum / boxLength;
+      peaks[i] = g;
+      if (g < minGain) minGain = g;
+    }
+    this.envelope = env;
+    this.boxSum = sum;
+    this.boxIndex = bi;
+    this.minGain = minGain;
+    for (let c = 0; c < nch; c++) {
+      const x = channels[c];
+      const line = this.delay[c];
+      for (let i = 0; i < frames; i++) x[i] = line[i] * peaks[i];
+      line.copyWithin(0, frames, frames + delayFrames);
+    }
+  }
+
+  takeGainReductionDb(out: Float64Array): void {
+    out[0] = this.minGain < 1 ? -20 * Math.log10(this.minGain) : 0;
+    this.minGain = 1;
+  }
+}
