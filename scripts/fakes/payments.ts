@@ -28,6 +28,8 @@ export interface PaymentsFakeOptions {
   host?: string;
   webhookUrl?: string;
   webhookSecret?: string;
+  /** Where failed webhook deliveries are reported (the script prints them). */
+  log?: (line: string) => void;
 }
 
 export interface PaymentsFake {
@@ -201,6 +203,7 @@ export async function startPaymentsFake(options: PaymentsFakeOptions = {}): Prom
   const secret = options.webhookSecret ?? DEFAULT_WEBHOOK_SECRET;
   let webhookUrl = options.webhookUrl ?? "http://127.0.0.1:3000/api/payments/webhook";
   let baseUrl = "";
+  const log = options.log ?? (() => {});
 
   const sessions = new Map<string, Session>();
   const lineItems = new Map<string, LineItem[]>();
@@ -316,6 +319,7 @@ export async function startPaymentsFake(options: PaymentsFakeOptions = {}): Prom
     const attempt = async (i: number) => {
       const d = await deliver(eventId);
       const ok = d.status !== null && d.status < 300;
+      if (!ok) log(`webhook ${eventId} to ${d.url} failed (${d.error ?? `HTTP ${d.status}`})${i < delaysMs.length ? "; will retry" : "; giving up"}`);
       if (!ok && i < delaysMs.length) setTimeout(() => void attempt(i + 1), delaysMs[i]).unref();
       return d;
     };
@@ -498,6 +502,7 @@ if (isScript) {
       process.env.FAKE_PAYMENTS_WEBHOOK_URL ??
       `http://127.0.0.1:${mode === "test" ? 3100 : 3000}/api/payments/webhook`,
     webhookSecret: process.env.STRIPE_WEBHOOK_SECRET || DEFAULT_WEBHOOK_SECRET,
+    log: (line) => console.error(`[fake payments] ${line}`),
   });
   console.log(`[fake payments] ready on ${fake.url}`);
   const stop = () => void fake.close().then(() => process.exit(0));

@@ -1,7 +1,7 @@
 // A local SMTP server for development and tests. It accepts every message on
 // loopback (no TLS, authentication optional), keeps it in memory and in a JSONL
 // file, and shows what it received through a small JSON HTTP API:
-//   GET /messages          every kept message (newest last)
+//   GET /messages          every kept message (oldest first); ?to=address filters
 //   GET /messages/:id      one message
 //   DELETE /messages       forget them all
 // A recipient whose local part is "bounce" is refused with 550, so the mailer's
@@ -137,7 +137,12 @@ export async function startSmtpFake(options: SmtpFakeOptions = {}): Promise<Smtp
     const match = /^\/messages(?:\/([^/]+))?\/?$/.exec(url.pathname);
     if (!match) return sendJson(res, 404, { error: "not found" });
     const id = match[1] ? decodeURIComponent(match[1]) : null;
-    if (req.method === "GET" && !id) return sendJson(res, 200, messages);
+    if (req.method === "GET" && !id) {
+      // ?to=address narrows the list, so a browser test can find the mail it caused.
+      const to = url.searchParams.get("to")?.toLowerCase();
+      const list = to ? messages.filter((m) => [...m.to, ...m.envelopeTo].some((a) => a.toLowerCase() === to)) : messages;
+      return sendJson(res, 200, list);
+    }
     if (req.method === "GET" && id) {
       const message = messages.find((m) => m.id === id);
       return message ? sendJson(res, 200, message) : sendJson(res, 404, { error: "no such message" });

@@ -106,6 +106,7 @@ describe("mail templates through the outbox and SMTP", () => {
 
     const found = byOutboxId(await api<FakeMessage[]>("/messages"), id);
     expect(found).toHaveLength(1);
+    expect(await api<FakeMessage[]>(`/messages?to=${encodeURIComponent(to.toUpperCase())}`)).toEqual(found);
     const message = await api<FakeMessage>(`/messages/${found[0]!.id}`);
     expect(message.to).toEqual([to]);
     expect(message.from).toContain("studio@tidemark-test.localhost");
