@@ -8,7 +8,7 @@ import { randomUUID } from "node:crypto";
 import knex, { type Knex } from "knex";
 import { afterAll, beforeAll, expect, it } from "vitest";
 import { startSmtpFake, type SmtpFake } from "../../scripts/fakes/smtp.ts";
-import { deliverPending, queueEmail, retryDelayMs } from "../../app/lib/mail/mailer.server.ts";
+import { deliverPending, MAX_ATTEMPTS, queueEmail, retryDelayMs } from "../../app/lib/mail/mailer.server.ts";
 import { createMailTransport } from "../../app/lib/mail/transport.server.ts";
 import { invitationEmail } from "../../app/lib/mail/templates.server.ts";
 
@@ -83,5 +83,21 @@ it("keeps a message queued while the server is down and sends it once when it is
   await fake.close();
   fake = await startSmtpFake({ port: smtpPort, apiPort, dataFile });
   expect(await received()).toHaveLength(1);
+  transport.close();
+});
+
+it("gives up after the last allowed attempt and says why", async () => {
+  const probe = await startSmtpFake({ port: 0, apiPort: 0, dataFile: null });
+  const downUrl = probe.smtpUrl;
+  await probe.close();
+  const transport = createMailTransport(downUrl, {});
+  const id = await queueEmail(db, { to: "gives-up@example.test", subject: "Last try", text: "x", kind: "test" });
+  ownIds.push(id);
+  await db("outbox_emails").where({ id }).update({ attempts: MAX_ATTEMPTS - 1 });
+  const result = await deliverPending(db, { transport, from: FROM, ids: [id] });
+  expect(result).toEqual({ sent: [], retrying: [], failed: [id] });
+  const row = await db("outbox_emails").where({ id }).first();
+  expect(row).toMatchObject({ state: "failed", attempts: MAX_ATTEMPTS });
+  expect(row.last_error).toMatch(/ECONNREFUSED|connect/i);
   transport.close();
 });
