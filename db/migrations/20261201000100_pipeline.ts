@@ -25,7 +25,7 @@ export async function up(knex: Knex): Promise<void> {
       -- The format as read from the WAV header, not from the file's name.
       sample_rate_hz integer NOT NULL CHECK (sample_rate_hz > 0),
       channels smallint NOT NULL CHECK (channels BETWEEN 1 AND 8),
-      bit_depth smallint NOT NULL CHECK (bit_depth IN (16, 24, 32)),
+      bit_depth smallint NOT NULL CHECK (bit_depth IN (16, 24, 32, 64)),
       sample_format text NOT NULL CHECK (sample_format IN ('int', 'float')),
       frames bigint NOT NULL CHECK (frames >= 0),
       analysis jsonb,

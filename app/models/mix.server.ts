@@ -1,0 +1,175 @@
+// Versions of a track's mix. Every upload is a new version (max + 1, under a
+// lock on the track so two uploads at once get v3 and v4, never two v3s);
+// nothing here overwrites a stored file.
+import { randomUUID } from "node:crypto";
+import type { Knex } from "knex";
+import { db } from "../lib/db.server.ts";
+import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
+import { toJsonValue } from "../jobs/json.ts";
+
+export type MixFormat = {
+  sampleRateHz: number;
+  channels: number;
+  bitDepth: 16 | 24 | 32 | 64;
+  sampleFormat: "int" | "float";
+  frames: number;
+};
+
+export type AnalysisState = "pending" | "running" | "done" | "failed";
+
+export type Mix = MixFormat & {
+  id: string;
+  trackId: string;
+  version: number;
+  originalName: string;
+  storageKey: string;
+  sizeBytes: number;
+  durationSeconds: number;
+  analysis: unknown;
+  analysisState: AnalysisState;
+  analysisError: string | null;
+  uploadedBy: string | null;
+  createdAt: Date;
+};
+
+type MixRow = {
+  id: string;
+  track_id: string;
+  version: number;
+  original_name: string;
+  storage_key: string;
+  size_bytes: string | number;
+  sample_rate_hz: number;
+  channels: number;
+  bit_depth: 16 | 24 | 32 | 64;
+  sample_format: "int" | "float";
+  frames: string | number;
+  analysis: unknown;
+  analysis_state: AnalysisState;
+  analysis_error: string | null;
+  uploaded_by: string | null;
+  created_at: Date;
+};
+
+const columns = [
+  "id", "track_id", "version", "original_name", "storage_key", "size_bytes", "sample_rate_hz", "channels", "bit_depth",
+  "sample_format", "frames", "analysis", "analysis_state", "analysis_error", "uploaded_by", "created_at",
+];
+
+function fromRow(row: MixRow): Mix {
+  const frames = Number(row.frames);
+  return {
+    id: row.id,
+    trackId: row.track_id,
+    version: row.version,
+    originalName: row.original_name,
+    storageKey: row.storage_key,
+    sizeBytes: Number(row.size_bytes),
+    sampleRateHz: row.sample_rate_hz,
+    channels: row.channels,
+    bitDepth: row.bit_depth,
+    sampleFormat: row.sample_format,
+    frames,
+    durationSeconds: frames / row.sample_rate_hz,
+    analysis: row.analysis,
+    analysisState: row.analysis_state,
+    analysisError: row.analysis_error,
+    uploadedBy: row.uploaded_by,
+    createdAt: row.created_at,
+  };
+}
+
+/**
+ * An id and storage key for a mix about to be uploaded: the file is stored
+ * first (streamed), checked, and only then given a row with this id.
+ */
+export function newMixKey(trackId: string): { mixId: string; storageKey: string } {
+  const mixId = randomUUID();
+  return { mixId, storageKey: `mixes/${trackId}/${mixId}.wav` };
+}
+
+export type NewMix = {
+  id?: string;
+  trackId: string;
+  originalName: string;
+  storageKey: string;
+  sizeBytes: number;
+  format: MixFormat;
+  uploadedBy?: string | null;
+};
+
+/** Inserts the next version of the track's mix. */
+export async function createMix(input: NewMix, trx?: Knex.Transaction): Promise<Mix> {
+  const run = async (t: Knex.Transaction) => {
+    const track = await t("tracks").where({ id: input.trackId }).forUpdate().first("id");
+    if (!track) throw new Error(`track ${input.trackId} does not exist`);
+    const { max } = (await t("mixes").where({ track_id: input.trackId }).max<{ max: number | null }>("version as max").first()) ?? { max: null };
+    const [row] = await t("mixes")
+      .insert({
+        id: input.id,
+        track_id: input.trackId,
+        version: (max ?? 0) + 1,
+        original_name: input.originalName,
+        storage_key: input.storageKey,
+        size_bytes: input.sizeBytes,
+        sample_rate_hz: input.format.sampleRateHz,
+        channels: input.format.channels,
+        bit_depth: input.format.bitDepth,
+        sample_format: input.format.sampleFormat,
+        frames: input.format.frames,
+        uploaded_by: input.uploadedBy ?? null,
+      })
+      .returning<MixRow[]>(columns);
+    return fromRow(row);
+  };
+  return trx ? run(trx) : db.transaction(run);
+}
+
+/** Creates the version and queues its analysis; the mix shows "pending" until a worker takes it. */
+export async function addMixVersion(input: NewMix): Promise<Mix> {
+  const mix = await createMix(input);
+  try {
+    const jobId = await enqueueAnalyzeMix(mix.id, mix.durationSeconds);
+    await db("mixes").where({ id: mix.id }).update({ analysis_job_id: jobId });
+  } catch (error) {
+    await markAnalysisFailed(mix.id, `the analysis could not be queued: ${(error as Error).message}`);
+    return (await getMix(mix.id))!;
+  }
+  return mix;
+}
+
+export async function getMix(id: string): Promise<Mix | undefined> {
+  const row = await db("mixes").where({ id }).first<MixRow | undefined>(columns);
+  return row && fromRow(row);
+}
+
+/** A track's versions, newest first, with their analyses. */
+export async function listMixVersions(trackId: string): Promise<Mix[]> {
+  const rows = await db("mixes").where({ track_id: trackId }).orderBy("version", "desc").select<MixRow[]>(columns);
+  return rows.map(fromRow);
+}
+
+/** Claims the analysis for a worker; false when there is nothing (left) to do. */
+export async function startAnalysis(id: string, jobId: string): Promise<Mix | undefined> {
+  const [row] = await db("mixes")
+    .where({ id })
+    .whereIn("analysis_state", ["pending", "running", "failed"])
+    .update({ analysis_state: "running", analysis_error: null, analysis_job_id: jobId })
+    .returning<MixRow[]>(columns);
+  return row && fromRow(row);
+}
+
+export async function saveAnalysis(id: string, analysis: unknown): Promise<void> {
+  await db("mixes")
+    .where({ id })
+    .update({ analysis: JSON.stringify(toJsonValue(analysis)), analysis_state: "done", analysis_error: null });
+}
+
+export async function markAnalysisFailed(id: string, message: string): Promise<void> {
+  await db("mixes").where({ id }).whereNot({ analysis_state: "done" }).update({ analysis_state: "failed", analysis_error: message });
+}
+
+/** Back to "pending" while a retry waits (the worker stopped or the attempt failed). */
+export async function markAnalysisRetrying(id: string, message: string): Promise<void> {
+  await db("mixes").where({ id, analysis_state: "running" }).update({ analysis_state: "pending", analysis_error: message });
+}

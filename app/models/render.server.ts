@@ -1,0 +1,171 @@
+// Renders: a mix version through a chain revision, as a preview (a region,
+// or the loudest 30 s when none is given) or a print (the whole mix),
+// optionally to a loudness target. The row is the truth about its state;
+// the queue job only says which worker may work on it.
+import { db } from "../lib/db.server.ts";
+import { cancelJob, enqueueRender, queueSettings } from "../jobs/queue.server.ts";
+
+export type RenderState = "queued" | "running" | "done" | "failed" | "cancelled";
+export type RenderKind = "preview" | "print";
+
+/** The length of a preview when no region is chosen (the loudest stretch of the mix). */
+export const PREVIEW_SECONDS = 30;
+
+export type Render = {
+  id: string;
+  mixId: string;
+  chainRevisionId: string;
+  kind: RenderKind;
+  region: { startS: number; endS: number } | null;
+  targetLufs: number | null;
+  state: RenderState;
+  progress: number;
+  error: string | null;
+  attempts: number;
+  queuedAt: Date;
+  startedAt: Date | null;
+  finishedAt: Date | null;
+  inputAnalysis: unknown;
+  outputAnalysis: unknown;
+  tracesKey: string | null;
+  output: { key: string; sizeBytes: number; sampleRateHz: number; channels: number; bitDepth: number; sampleFormat: "int" | "float" } | null;
+  jobId: string | null;
+  createdBy: string | null;
+};
+
+export type RenderRow = {
+  id: string;
+  mix_id: string;
+  chain_revision_id: string;
+  kind: RenderKind;
+  region_start_s: number | null;
+  region_end_s: number | null;
+  target_lufs: number | null;
+  state: RenderState;
+  progress: number;
+  error: string | null;
+  attempts: number;
+  queued_at: Date;
+  started_at: Date | null;
+  finished_at: Date | null;
+  input_analysis: unknown;
+  output_analysis: unknown;
+  traces_key: string | null;
+  output_key: string | null;
+  output_size_bytes: string | number | null;
+  output_sample_rate_hz: number | null;
+  output_channels: number | null;
+  output_bit_depth: number | null;
+  output_sample_format: "int" | "float" | null;
+  job_id: string | null;
+  created_by: string | null;
+};
+
+export function renderFromRow(row: RenderRow): Render {
+  return {
+    id: row.id,
+    mixId: row.mix_id,
+    chainRevisionId: row.chain_revision_id,
+    kind: row.kind,
+    region: row.region_start_s === null || row.region_end_s === null ? null : { startS: row.region_start_s, endS: row.region_end_s },
+    targetLufs: row.target_lufs,
+    state: row.state,
+    progress: row.progress,
+    error: row.error,
+    attempts: row.attempts,
+    queuedAt: row.queued_at,
+    startedAt: row.started_at,
+    finishedAt: row.finished_at,
+    inputAnalysis: row.input_analysis,
+    outputAnalysis: row.output_analysis,
+    tracesKey: row.traces_key,
+    output: row.output_key
+      ? {
+          key: row.output_key,
+          sizeBytes: Number(row.output_size_bytes),
+          sampleRateHz: row.output_sample_rate_hz!,
+          channels: row.output_channels!,
+          bitDepth: row.output_bit_depth!,
+          sampleFormat: row.output_sample_format!,
+        }
+      : null,
+    jobId: row.job_id,
+    createdBy: row.created_by,
+  };
+}
+
+export type NewRender = {
+  mixId: string;
+  chainRevisionId: string;
+  kind: RenderKind;
+  region?: { startS: number; endS: number } | null;
+  targetLufs?: number | null;
+  createdBy?: string | null;
+};
+
+/** Creates the render row and queues its job. */
+export async function createRender(input: NewRender): Promise<Render> {
+  if (input.kind === "print" && input.region) throw new Error("a print renders the whole mix; only a preview has a region");
+  const mix = await db("mixes").where({ id: input.mixId }).first<{ frames: string; sample_rate_hz: number } | undefined>("frames", "sample_rate_hz");
+  if (!mix) throw new Error(`mix ${input.mixId} does not exist`);
+  const [row] = await db("renders")
+    .insert({
+      mix_id: input.mixId,
+      chain_revision_id: input.chainRevisionId,
+      kind: input.kind,
+      region_start_s: input.region?.startS ?? null,
+      region_end_s: input.region?.endS ?? null,
+      target_lufs: input.targetLufs ?? null,
+      created_by: input.createdBy ?? null,
+    })
+    .returning<RenderRow[]>("*");
+  const mixSeconds = Number(mix.frames) / mix.sample_rate_hz;
+  const audioSeconds =
+    input.kind === "print" ? mixSeconds : input.region ? input.region.endS - input.region.startS : Math.min(PREVIEW_SECONDS, mixSeconds);
+  // A loudness target costs a measuring pass before the rendering pass.
+  const passes = input.targetLufs != null ? 2 : 1;
+  try {
+    const jobId = await enqueueRender(row.id, audioSeconds, passes);
+    // Only while still queued: a fast worker may already have claimed it and set job_id itself.
+    await db("renders").where({ id: row.id }).whereNull("job_id").update({ job_id: jobId });
+  } catch (error) {
+    await db("renders")
+      .where({ id: row.id })
+      .update({ state: "failed", error: `The render could not be queued: ${(error as Error).message}`, finished_at: db.fn.now() });
+  }
+  return (await getRender(row.id))!;
+}
+
+export async function getRender(id: string): Promise<Render | undefined> {
+  const row = await db("renders").where({ id }).first<RenderRow | undefined>("*");
+  return row && renderFromRow(row);
+}
+
+/** A track's renders over all its mix versions, newest first. */
+export async function listRendersForTrack(trackId: string): Promise<(Render & { mixVersion: number })[]> {
+  const rows = await db("renders as r")
+    .join("mixes as m", "m.id", "r.mix_id")
+    .where({ "m.track_id": trackId })
+    .orderBy("r.queued_at", "desc")
+    .select<(RenderRow & { mix_version: number })[]>("r.*", "m.version as mix_version");
+  return rows.map((row) => ({ ...renderFromRow(row), mixVersion: row.mix_version }));
+}
+
+/**
+ * Cancels a render that has not finished. A queued job is cancelled in the
+ * queue; a running one notices the row's state at its next progress report
+ * and stops. Returns the render as it is afterwards (a finished render is
+ * returned unchanged).
+ */
+export async function cancelRender(id: string): Promise<Render | undefined> {
+  const [row] = await db("renders")
+    .where({ id })
+    .whereIn("state", ["queued", "running"])
+    .update({ state: "cancelled", finished_at: db.fn.now(), error: null })
+    .returning<RenderRow[]>("*");
+  if (row?.job_id) {
+    // Best effort: a worker that already holds the job sees the row instead.
+    await cancelJob(queueSettings().renderQueue, row.job_id).catch(() => {});
+  }
+  return row ? renderFromRow(row) : getRender(id);
+}
