@@ -99,3 +99,14 @@ export function* blocksOf(channels: Float64Array[], blockFrames: number): Genera
     yield [bufs, n];
   }
 }
+
+/** Raised-cosine fade-in and fade-out over `fadeFrames`, in place (avoids onset overshoot in tests). */
+export function fade(x: Float64Array, fadeFrames: number): Float64Array {
+  const n = Math.min(fadeFrames, Math.floor(x.length / 2));
+  for (let i = 0; i < n; i++) {
+    const g = 0.5 - 0.5 * Math.cos((Math.PI * i) / n);
+    x[i] *= g;
+    x[x.length - 1 - i] *= g;
+  }
+  return x;
+}

@@ -1,0 +1,167 @@
+// True-peak detection in the manner of ITU-R BS.1770-4 Annex 2: oversample by
+// polyphase FIR interpolation and take the largest absolute value.
+//
+// The filter (our own design, same structure as the Annex 2 example of 4
+// phases × 12 taps): 4× below 96 kHz, 2× at 96 kHz and above; a
+// Kaiser-windowed sinc (β = 6) with its cutoff at the input Nyquist
+// frequency, L·12 + 1 taps. Its zeros fall on every L-th tap, so phase 0 is
+// the input sample itself (true peak is never below the sample peak) and only
+// L − 1 phases are computed. Each phase is normalised to unity gain at DC.
+// Measured response of the interpolated phases at 48 kHz: within ±0.01 dB
+// to 16 kHz, −0.33 dB at 18 kHz, −1.9 dB at 20 kHz (BS.1770-4 expects some
+// under-reading close to Nyquist).
+
+const TAPS_PER_PHASE = 12;
+const KAISER_BETA = 6;
+/** Frames of history a phase reads before the current frame. */
+const HISTORY = TAPS_PER_PHASE - 1;
+/** Frames per chunk for the "cannot exceed the current maximum" shortcut in process(). */
+const CHUNK_FRAMES = 32;
+
+function besselI0(x: number): number {
+  let sum = 1;
+  let term = 1;
+  for (let k = 1; k < 60; k++) {
+    term *= (x / (2 * k)) ** 2;
+    sum += term;
+    if (term < 1e-17 * sum) break;
+  }
+  return sum;
+}
+
+export function oversamplingFactor(sampleRate: number): number {
+  return sampleRate < 96000 ? 4 : 2;
+}
+
+/** Coefficients of phases 1..L−1, each TAPS_PER_PHASE long; tap k multiplies x[n − k]. */
+export function designTruePeakPhases(factor: number): Float64Array[] {
+  const taps = factor * TAPS_PER_PHASE + 1;
+  const centre = (taps - 1) / 2;
+  const h = new Float64Array(taps);
+  for (let n = 0; n < taps; n++) {
+    const t = (n - centre) / factor;
+    const sinc = t === 0 ? 1 : Math.sin(Math.PI * t) / (Math.PI * t);
+    const r = (n - centre) / centre;
+    h[n] = (sinc * besselI0(KAISER_BETA * Math.sqrt(Math.max(0, 1 - r * r)))) / besselI0(KAISER_BETA);
+  }
+  const phases: Float64Array[] = [];
+  for (let p = 1; p < factor; p++) {
+    const c = new Float64Array(TAPS_PER_PHASE);
+    let sum = 0;
+    for (let k = 0; k < TAPS_PER_PHASE; k++) sum += c[k] = h[p + factor * k];
+    for (let k = 0; k < TAPS_PER_PHASE; k++) c[k] /= sum;
+    phases.push(c);
+  }
+  return phases;
+}
+
+export class TruePeakDetector {
+  /** outPeak[i] of processPerFrame describes input frame i − latencyFrames and the points after it. */
+  readonly latencyFrames = TAPS_PER_PHASE / 2;
+  readonly factor: number;
+  private max = 0;
+  private readonly phases: Float64Array[];
+  private readonly boundGain: number; // largest Σ|h| over the phases
+  private readonly hist: Float64Array[]; // HISTORY frames of the past, then the block
+  private readonly maxBlockFrames: number;
+
+  constructor(sampleRate: number, channels: number, maxBlockFrames: number) {
+    this.factor = oversamplingFactor(sampleRate);
+    this.phases = designTruePeakPhases(this.factor);
+    this.boundGain = Math.max(1, ...this.phases.map((c) => c.reduce((s, v) => s + Math.abs(v), 0)));
+    this.maxBlockFrames = maxBlockFrames;
+    this.hist = Array.from({ length: channels }, () => new Float64Array(HISTORY + maxBlockFrames));
+  }
+
+  /** Largest absolute value (linear) of the oversampled signal over all channels so far. */
+  get maxAbs(): number {
+    return this.max;
+  }
+
+  reset(): void {
+    this.max = 0;
+    for (const h of this.hist) h.fill(0);
+  }
+
+  // Keeps the last HISTORY frames of this block at the front for the next block.
+  private keepTail(frames: number): void {
+    for (const h of this.hist) h.copyWithin(0, frames, frames + HISTORY);
+  }
+
+  /** Updates maxAbs with `frames` frames of `channels` (not modified). */
+  process(channels: Float64Array[], frames: number): void {
+    this.loadBlock(channels, frames);
+    let max = this.max;
+    const bound = this.boundGain;
+    for (let ch = 0; ch < this.hist.length; ch++) {
+      const h = this.hist[ch];
+      for (let start = 0; start < frames; start += CHUNK_FRAMES) {
+        const end = Math.min(frames, start + CHUNK_FRAMES);
+        // Largest input the chunk's interpolation can see; it also covers phase 0 (the samples).
+        let local = 0;
+        for (let j = start; j < end + HISTORY; j++) {
+          const a = h[j] < 0 ? -h[j] : h[j];
+          if (a > local) local = a;
+        }
+        if (local > max) max = local;
+        if (local * bound <= max) continue; // no interpolated point here can exceed the maximum
+        for (let p = 0; p < this.phases.length; p++) {
+          const v = interpolatedMax(h, this.phases[p], start, end);
+          if (v > max) max = v;
+        }
+      }
+    }
+    this.max = max;
+    this.keepTail(frames);
+  }
+
+  /**
+   * For each input frame i: the largest |x| over channels of the interpolated
+   * points of frame i − latencyFrames (phase 0 = that sample, then the points
+   * after it). State carries between blocks. Also updates maxAbs.
+   */
+  processPerFrame(channels: Float64Array[], frames: number, outPeak: Float64Array): void {
+    this.loadBlock(channels, frames);
+    outPeak.fill(0, 0, frames);
+    const centre = TAPS_PER_PHASE / 2;
+    for (let ch = 0; ch < this.hist.length; ch++) {
+      const h = this.hist[ch];
+      for (let i = 0; i < frames; i++) {
+        // Phase-0 point of frame i − latency is x[i − centre], at index i + HISTORY − centre.
+        const s = h[i + HISTORY - centre];
+        let m = s < 0 ? -s : s;
+        for (let p = 0; p < this.phases.length; p++) {
+          const c = this.phases[p];
+          let acc = 0;
+          for (let k = 0; k < TAPS_PER_PHASE; k++) acc += c[k] * h[i + HISTORY - k];
+          const a = acc < 0 ? -acc : acc;
+          if (a > m) m = a;
+        }
+        if (m > outPeak[i]) outPeak[i] = m;
+      }
+    }
+    for (let i = 0; i < frames; i++) if (outPeak[i] > this.max) this.max = outPeak[i];
+    this.keepTail(frames);
+  }
+
+  private loadBlock(channels: Float64Array[], frames: number): void {
+    if (frames > this.maxBlockFrames) throw new RangeError(`block of ${frames} frames exceeds maxBlockFrames ${this.maxBlockFrames}`);
+    for (let ch = 0; ch < this.hist.length; ch++) this.hist[ch].set(channels[ch].subarray(0, frames), HISTORY);
+  }
+}
+
+/** max |y| of one phase over frames [start, end) of a history buffer (x[n] at index n + HISTORY). */
+function interpolatedMax(h: Float64Array, c: Float64Array, start: number, end: number): number {
+  const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5];
+  const c6 = c[6], c7 = c[7], c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11];
+  let m = 0;
+  for (let n = start; n < end; n++) {
+    const b = n + HISTORY;
+    const y =
+      c0 * h[b] + c1 * h[b - 1] + c2 * h[b - 2] + c3 * h[b - 3] + c4 * h[b - 4] + c5 * h[b - 5] +
+      c6 * h[b - 6] + c7 * h[b - 7] + c8 * h[b - 8] + c9 * h[b - 9] + c10 * h[b - 10] + c11 * h[b - 11];
+    const a = y < 0 ? -y : y;
+    if (a > m) m = a;
+  }
+  return m;
+}
