@@ -12,6 +12,9 @@ import { getSession, sessionStorage } from "./session.server.ts";
 import { env } from "./env.server.ts";
 import { notFound } from "./http.server.ts";
 import type { Role } from "./roles.ts";
+import { safeRedirectPath } from "./redirect.ts";
+
+export { safeRedirectPath };
 
 export type SignedIn = { userId: string; studioId: string };
 
@@ -61,12 +64,6 @@ authenticator.use(
   }),
   "password",
 );
-
-/** Only same-site paths, so a crafted link cannot send people elsewhere after sign-in. */
-export function safeRedirectPath(to: FormDataEntryValue | string | null | undefined, fallback = "/"): string {
-  if (typeof to !== "string" || !to.startsWith("/") || to.startsWith("//") || to.startsWith("/\\")) return fallback;
-  return to;
-}
 
 export async function createUserSession(request: Request, signedIn: SignedIn, redirectTo: string): Promise<Response> {
   const session = await getSession(request);

@@ -58,7 +58,7 @@ export async function up(knex: Knex): Promise<void> {
       due_on date,
       created_at timestamptz NOT NULL DEFAULT now(),
       updated_at timestamptz NOT NULL DEFAULT now(),
-      FOREIGN KEY (client_id, studio_id) REFERENCES clients (id, studio_id) ON DELETE RESTRICT
+      FOREIGN KEY (client_id, studio_id) REFERENCES clients (id, studio_id)
     );
     -- The dashboard lists a studio's releases, newest first, optionally by status;
     -- a client's view lists one client's releases.

@@ -1,0 +1,129 @@
+// Every route × every persona → allowed, 404, or a redirect (to sign-in, or
+// home for pages meant for the signed-out), against the real database.
+// Route modules are called directly with a Request carrying a session cookie.
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { createFixture, destroyFixture, outcomeOf, PERSONAS, requestAs, type Fixture, type Outcome, type Persona } from "./fixtures.ts";
+import { createInvitation } from "../../app/models/invitation.server.ts";
+import routes from "../../app/routes.ts";
+import * as signIn from "../../app/routes/sign-in.tsx";
+import * as signOut from "../../app/routes/sign-out.tsx";
+import * as invitation from "../../app/routes/invitation.tsx";
+import * as workspace from "../../app/routes/workspace.tsx";
+import * as dashboard from "../../app/routes/dashboard.tsx";
+import * as releases from "../../app/routes/releases.tsx";
+import * as releaseNew from "../../app/routes/release-new.tsx";
+import * as release from "../../app/routes/release.tsx";
+import * as releaseEdit from "../../app/routes/release-edit.tsx";
+import * as trackNew from "../../app/routes/track-new.tsx";
+import * as track from "../../app/routes/track.tsx";
+import * as trackEdit from "../../app/routes/track-edit.tsx";
+import * as team from "../../app/routes/team.tsx";
+import * as settings from "../../app/routes/settings.tsx";
+
+type Expect = Record<Persona, Outcome>;
+const everyone = (outcome: Outcome): Expect => Object.fromEntries(PERSONAS.map((p) => [p, outcome])) as Expect;
+const signedIn: Expect = { ...everyone("allowed"), signedOut: "sign-in" };
+const signedOutOnly: Expect = { ...everyone("home"), signedOut: "allowed" };
+// Pages of the studio as a whole: any studio's staff, in their own studio.
+const staff: Expect = { signedOut: "sign-in", otherClient: "404", client: "404", engineer: "allowed", owner: "allowed", otherStudio: "allowed" };
+// One release of the first client.
+const releaseViewers: Expect = { signedOut: "sign-in", otherClient: "404", client: "allowed", engineer: "allowed", owner: "allowed", otherStudio: "404" };
+const releaseStaff: Expect = { ...releaseViewers, client: "404" };
+const ownerOnly: Expect = { ...everyone("404"), signedOut: "sign-in", owner: "allowed" };
+
+type Handler = (args: { request: Request; params: Record<string, string>; context: unknown }) => Promise<unknown>;
+type Case = { route: string; file: string; kind: "loader" | "action"; handler: Handler; path: (f: Fixture) => string; params?: (f: Fixture) => Record<string, string>; form?: Record<string, string>; expected: Expect };
+
+let fixture: Fixture;
+let invitationToken: string;
+
+const rel = (f: Fixture) => ({ releaseId: f.releaseId });
+const trk = (f: Fixture) => ({ releaseId: f.releaseId, trackId: f.trackId });
+
+// An empty or invalid form: an allowed persona gets a 400 with field errors, so nothing changes.
+const cases: Case[] = [
+  { route: "/sign-in", file: "routes/sign-in.tsx", kind: "loader", handler: signIn.loader as Handler, path: () => "/sign-in", expected: signedOutOnly },
+  { route: "/sign-in", file: "routes/sign-in.tsx", kind: "action", handler: signIn.action as Handler, path: () => "/sign-in", form: { email: "" }, expected: everyone("allowed") },
+  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "loader", handler: signOut.loader as Handler, path: () => "/sign-out", expected: everyone("home") },
+  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOut.action as Handler, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
+  { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), expected: signedOutOnly },
+  { route: "/invitations/:token (unknown)", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => "/invitations/unknown", params: () => ({ token: "x".repeat(43) }), expected: everyone("404") },
+  { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "action", handler: invitation.action as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), form: { name: "" }, expected: everyone("allowed") },
+  { route: "(workspace layout)", file: "routes/workspace.tsx", kind: "loader", handler: workspace.loader as Handler, path: () => "/", expected: signedIn },
+  { route: "/", file: "routes/dashboard.tsx", kind: "loader", handler: dashboard.loader as Handler, path: () => "/", expected: signedIn },
+  { route: "/releases", file: "routes/releases.tsx", kind: "loader", handler: releases.loader as Handler, path: () => "/releases", expected: staff },
+  { route: "/releases/new", file: "routes/release-new.tsx", kind: "loader", handler: releaseNew.loader as Handler, path: () => "/releases/new", expected: staff },
+  { route: "/releases/new", file: "routes/release-new.tsx", kind: "action", handler: releaseNew.action as Handler, path: () => "/releases/new", form: { title: "" }, expected: staff },
+  { route: "/releases/:releaseId", file: "routes/release.tsx", kind: "loader", handler: release.loader as Handler, path: (f) => `/releases/${f.releaseId}`, params: rel, expected: releaseViewers },
+  { route: "/releases/:releaseId/edit", file: "routes/release-edit.tsx", kind: "loader", handler: releaseEdit.loader as Handler, path: (f) => `/releases/${f.releaseId}/edit`, params: rel, expected: releaseStaff },
+  { route: "/releases/:releaseId/edit", file: "routes/release-edit.tsx", kind: "action", handler: releaseEdit.action as Handler, path: (f) => `/releases/${f.releaseId}/edit`, params: rel, form: { title: "" }, expected: releaseStaff },
+  { route: "/releases/:releaseId/tracks/new", file: "routes/track-new.tsx", kind: "loader", handler: trackNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/new`, params: rel, expected: releaseStaff },
+  { route: "/releases/:releaseId/tracks/new", file: "routes/track-new.tsx", kind: "action", handler: trackNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/new`, params: rel, form: { title: "" }, expected: releaseStaff },
+  { route: "/releases/:releaseId/tracks/:trackId", file: "routes/track.tsx", kind: "loader", handler: track.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}`, params: trk, expected: releaseViewers },
+  { route: "/releases/:releaseId/tracks/:trackId/edit", file: "routes/track-edit.tsx", kind: "loader", handler: trackEdit.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/edit`, params: trk, expected: releaseStaff },
+  { route: "/releases/:releaseId/tracks/:trackId/edit", file: "routes/track-edit.tsx", kind: "action", handler: trackEdit.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/edit`, params: trk, form: { title: "" }, expected: releaseStaff },
+  { route: "/team", file: "routes/team.tsx", kind: "loader", handler: team.loader as Handler, path: () => "/team", expected: ownerOnly },
+  { route: "/team", file: "routes/team.tsx", kind: "action", handler: team.action as Handler, path: () => "/team", form: { intent: "invite", email: "" }, expected: ownerOnly },
+  { route: "/settings", file: "routes/settings.tsx", kind: "loader", handler: settings.loader as Handler, path: () => "/settings", expected: signedIn },
+  { route: "/settings", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "profile", name: "" }, expected: signedIn },
+  { route: "/settings (studio)", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "studio", name: "" }, expected: ownerOnly },
+];
+
+beforeAll(async () => {
+  fixture = await createFixture();
+  ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
+});
+afterAll(async () => destroyFixture(fixture));
+
+describe("authorisation matrix", () => {
+  it("covers every route file in app/routes.ts", () => {
+    const files = new Set<string>();
+    const walk = (entries: { file: string; children?: unknown[] }[]) => {
+      for (const entry of entries) {
+        files.add(entry.file);
+        if (entry.children) walk(entry.children as { file: string; children?: unknown[] }[]);
+      }
+    };
+    walk(routes as { file: string; children?: unknown[] }[]);
+    expect(new Set(cases.map((c) => c.file))).toEqual(files);
+  });
+
+  for (const c of cases) {
+    it(`${c.kind} ${c.route}`, async () => {
+      const actual = {} as Expect;
+      for (const persona of PERSONAS) {
+        const request = requestAs(fixture, persona, c.path(fixture), c.kind === "action" ? { form: c.form ?? {} } : {});
+        actual[persona] = await outcomeOf(() => c.handler({ request, params: c.params?.(fixture) ?? {}, context: {} }));
+      }
+      expect(actual).toEqual(c.expected);
+    });
+  }
+
+  it("answers 404 for a release id that does not exist or is not a uuid", async () => {
+    for (const releaseId of ["00000000-0000-4000-8000-000000000000", "not-a-uuid"]) {
+      const request = requestAs(fixture, "owner", `/releases/${releaseId}`);
+      expect(await outcomeOf(() => release.loader({ request, params: { releaseId }, context: {} } as never))).toBe("404");
+    }
+  });
+
+  it("answers 404 for a track of another release", async () => {
+    const params = { releaseId: fixture.otherReleaseId, trackId: fixture.trackId };
+    const request = requestAs(fixture, "owner", `/releases/${params.releaseId}/tracks/${params.trackId}`);
+    expect(await outcomeOf(() => track.loader({ request, params, context: {} } as never))).toBe("404");
+  });
+
+  it("lists only the client's own releases on a client's dashboard", async () => {
+    const request = requestAs(fixture, "client", "/");
+    const data = (await dashboard.loader({ request, params: {}, context: {} } as never)) as { releases: { id: string }[] };
+    expect(data.releases.map((r) => r.id)).toEqual([fixture.releaseId]);
+    const staffData = (await dashboard.loader({ request: requestAs(fixture, "engineer", "/"), params: {}, context: {} } as never)) as { releases: { id: string }[] };
+    expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId]));
+  });
+
+  it("sends a signed-out visitor to sign-in with the way back", async () => {
+    const request = requestAs(fixture, "signedOut", `/releases/${fixture.releaseId}`);
+    const thrown = await release.loader({ request, params: rel(fixture), context: {} } as never).catch((e: unknown) => e);
+    expect(thrown).toBeInstanceOf(Response);
+    expect((thrown as Response).headers.get("Location")).toBe(`/sign-in?redirectTo=${encodeURIComponent(`/releases/${fixture.releaseId}`)}`);
+  });
+});
