@@ -1,0 +1,58 @@
+// EQ stage: RBJ-cookbook biquads in series, each on stereo (both channels),
+// mid, side, left or right. Mid/side bands convert in place around the band
+// (M = (L+R)/2, S = (L−R)/2) and back. On mono input, stereo/mid/left bands
+// act on the one channel; side and right bands have nothing to act on and
+// are skipped.
+
+import { designBiquad } from "../filters/biquad-design.ts";
+import { Biquad } from "../filters/biquad.ts";
+import { fromMidSide, toMidSide } from "../filters/mid-side.ts";
+import type { Planar, Processor } from "../processor.ts";
+import type { EqBand } from "./schema.ts";
+
+interface BandRunner {
+  filter: Biquad;
+  channel: EqBand["channel"];
+}
+
+export class EqStage implements Processor {
+  readonly latencyFrames = 0;
+  private readonly runners: BandRunner[];
+
+  constructor(sampleRate: number, readonly channels: number, bands: EqBand[]) {
+    this.runners = [];
+    for (const band of bands) {
+      if (band.freqHz >= sampleRate / 2) throw new RangeError(`EQ frequency ${band.freqHz} Hz is at or above half the sample rate (${sampleRate / 2} Hz)`);
+      if (channels === 1 && (band.channel === "side" || band.channel === "right")) continue;
+      const coeffs = designBiquad(band.shape, { freqHz: band.freqHz, q: band.q, gainDb: band.gainDb }, sampleRate);
+      const perChannel = band.channel === "stereo" ? channels : 1;
+      this.runners.push({ filter: new Biquad(coeffs, perChannel), channel: channels === 1 ? "stereo" : band.channel });
+    }
+  }
+
+  reset(): void {
+    for (const r of this.runners) r.filter.reset();
+  }
+
+  process(channels: Planar, frames: number): void {
+    for (const { filter, channel } of this.runners) {
+      switch (channel) {
+        case "stereo":
+          filter.process(channels, frames);
+          break;
+        case "left":
+          filter.processChannel(channels[0], 0, frames);
+          break;
+        case "right":
+          filter.processChannel(channels[1], 0, frames);
+          break;
+        case "mid":
+        case "side":
+          toMidSide(channels[0], channels[1], frames);
+          filter.processChannel(channels[channel === "mid" ? 0 : 1], 0, frames);
+          fromMidSide(channels[0], channels[1], frames);
+          break;
+      }
+    }
+  }
+}
