@@ -1,0 +1,306 @@
+// renderFile: streams a WAV file through a chain in blocks and writes the
+// result atomically (temporary name beside the output, renamed at the end).
+//
+// Block flow: reads of READ_FRAMES frames are cut into chunks of one trace
+// grid step (10 ms), so every processor sees the same chunk boundaries
+// whatever the read size and the gain-reduction traces land on a fixed grid.
+// Latency: the chain's total latency L (sum of its stages') is compensated
+// here: L frames of zeros are fed after the input and the first L output
+// frames are dropped, so the output has the input's length and alignment.
+//
+// Loudness targeting (targetLufs): pass 1 renders with the chain's own gain
+// and measures the output's integrated loudness; each next pass moves the
+// last limiter's input gain (or a final trim if there is no limiter) by a
+// secant step on (gain, measured loudness) — slope 1 dB/dB for the first
+// step, then the slope of the last two passes — until the output is within
+// TARGET_TOLERANCE_LU of the target (at most MAX_PASSES). Every pass writes
+// the file, so the last pass is the delivered one.
+// Preview without a region: a first analysis pass of the input (short-term
+// loudness only, no true peak) finds the loudest 30 s.
+
+import { randomBytes } from "node:crypto";
+import { rename, unlink } from "node:fs/promises";
+import { basename, dirname, join } from "node:path";
+import { buildChain } from "../chain/build-chain.ts";
+import type { Chain } from "../chain/schema.ts";
+import { openWav, probeWav } from "../io/wav-reader.ts";
+import { createWavWriter } from "../io/wav-writer.ts";
+import { LoudnessMeter, type LoudnessAnalysis } from "../loudness/meter.ts";
+import { Quantizer } from "../output/quantizer.ts";
+import { loudestWindow } from "./loudest-window.ts";
+
+export const GRID_MS = 10;
+export const READ_FRAMES = 4096;
+export const TARGET_TOLERANCE_LU = 0.1;
+/** Stop searching once this close (margin inside the ±0.1 LU promise). */
+const TARGET_AIM_LU = 0.03;
+export const MAX_PASSES = 6;
+export const PREVIEW_WINDOW_S = 30;
+const MAX_TARGET_GAIN_DB = 36;
+
+export interface RenderRegion {
+  startS: number;
+  endS: number;
+}
+
+export interface RenderOptions {
+  region?: RenderRegion;
+  preview?: boolean;
+  /** Overrides chain.output.targetLufs. */
+  targetLufs?: number;
+  onProgress?: (fraction: number) => void;
+  /** Frames per read (tests use it to check block-size independence). */
+  readFrames?: number;
+}
+
+export interface RenderAnalysis extends LoudnessAnalysis {
+  durationS: number;
+  sampleRate: number;
+  channels: number;
+  bitDepth: number;
+  format: string;
+}
+
+export interface StageTrace {
+  index: number;
+  type: string;
+  names: string[];
+  /** [trace][grid step], dB ≥ 0 */
+  gainReductionDb: number[][];
+}
+
+export interface RenderResult {
+  input: RenderAnalysis;
+  output: RenderAnalysis;
+  traces: { gridMs: number; stages: StageTrace[]; shortTermLufs: number[] };
+  passes: number;
+  region?: RenderRegion;
+  /** The limiter input gain (or final trim) added to reach targetLufs. */
+  targetGainDb?: number;
+  latencyFrames: number;
+}
+
+export class RenderInputError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "RenderInputError";
+  }
+}
+
+export async function renderFile(inputPath: string, outputPath: string, chain: Chain, options: RenderOptions = {}): Promise<RenderResult> {
+  const format = await probeWav(inputPath);
+  if (chain.output.sampleRate !== undefined && chain.output.sampleRate !== format.sampleRate) {
+    throw new RenderInputError(
+      `output sample rate ${chain.output.sampleRate} Hz differs from the input's ${format.sampleRate} Hz; sample-rate conversion is not available yet (omit output.sampleRate or set it to ${format.sampleRate})`,
+    );
+  }
+  const durationS = format.frames / format.sampleRate;
+  let region = options.region;
+  if (region) {
+    if (!(region.startS >= 0 && region.endS > region.startS)) throw new RenderInputError(`region ${region.startS}:${region.endS} must have 0 ≤ start < end`);
+    if (region.startS >= durationS) throw new RenderInputError(`region starts at ${region.startS} s, after the end of the file (${durationS.toFixed(3)} s)`);
+    region = { startS: region.startS, endS: Math.min(region.endS, durationS) };
+  } else if (options.preview) {
+    const shortTermLufs = await shortTermCurve(inputPath);
+    region = loudestWindow(shortTermLufs, GRID_MS, durationS, PREVIEW_WINDOW_S);
+  }
+  const target = options.targetLufs ?? chain.output.targetLufs;
+  const tmpPath = join(dirname(outputPath), `.${basename(outputPath)}.${randomBytes(6).toString("hex")}.tmp`);
+  const expectedPasses = target === undefined ? 1 : 3;
+  try {
+    let gainDb = 0;
+    let pass = 0;
+    let result: PassResult;
+    let previous: { gainDb: number; lufs: number } | null = null;
+    for (;;) {
+      const passIndex = pass;
+      result = await renderPass(inputPath, tmpPath, chain, gainDb, region, options.readFrames ?? READ_FRAMES, (f) =>
+        options.onProgress?.(Math.min(0.99, (passIndex + f) / Math.max(expectedPasses, passIndex + 1))),
+      );
+      pass++;
+      if (target === undefined) break;
+      const lufs = result.output.integratedLufs;
+      if (!Number.isFinite(lufs) || Math.abs(lufs - target) <= TARGET_AIM_LU || pass >= MAX_PASSES) break;
+      let slope = 1;
+      if (previous && previous.gainDb !== gainDb) slope = (lufs - previous.lufs) / (gainDb - previous.gainDb);
+      // A limiter flattens the curve; a wrong-signed or tiny slope would overshoot.
+      slope = Math.min(1.5, Math.max(0.1, slope));
+      previous = { gainDb, lufs };
+      gainDb = Math.max(-MAX_TARGET_GAIN_DB, Math.min(MAX_TARGET_GAIN_DB, gainDb + (target - lufs) / slope));
+    }
+    await rename(tmpPath, outputPath);
+    options.onProgress?.(1);
+    return {
+      input: result.input,
+      output: result.output,
+      traces: { gridMs: GRID_MS, stages: result.stages, shortTermLufs: result.output.shortTermLufs },
+      passes: pass,
+      ...(region ? { region } : {}),
+      ...(target !== undefined ? { targetGainDb: gainDb } : {}),
+      latencyFrames: result.latencyFrames,
+    };
+  } catch (err) {
+    await unlink(tmpPath).catch(() => {});
+    throw err;
+  }
+}
+
+interface PassResult {
+  input: RenderAnalysis;
+  output: RenderAnalysis;
+  stages: StageTrace[];
+  latencyFrames: number;
+}
+
+const PROGRESS_EVERY_MS = 250;
+
+async function renderPass(
+  inputPath: string,
+  outPath: string,
+  chain: Chain,
+  extraGainDb: number,
+  region: RenderRegion | undefined,
+  readFrames: number,
+  onProgress: (fraction: number) => void,
+): Promise<PassResult> {
+  const reader = await openWav(inputPath);
+  const fmt = reader.format;
+  const sr = fmt.sampleRate, nch = fmt.channels;
+  const gridFrames = Math.max(1, Math.round((GRID_MS / 1000) * sr));
+  const built = buildChain(chain, sr, nch, gridFrames, extraGainDb);
+  const latency = built.latencyFrames;
+  const bitDepth = chain.output.bitDepth;
+  const quantizer = new Quantizer(nch, bitDepth, chain.output.dither);
+  const writer = await createWavWriter(outPath, { sampleRate: sr, channels: nch, bitDepth: bitDepth === "32f" ? 32 : bitDepth, float: bitDepth === "32f" });
+  const meterIn = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
+  const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
+  const startFrame = region ? Math.round(region.startS * sr) : 0;
+  const endFrame = region ? Math.min(fmt.frames, Math.round(region.endS * sr)) : fmt.frames;
+  const totalFrames = endFrame - startFrame;
+
+  const readBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
+  const chunk = Array.from({ length: nch }, () => new Float64Array(gridFrames));
+  const outBufs = Array.from({ length: nch }, () => new Float64Array(READ_FRAMES));
+  let outFill = 0;
+  let chunkFill = 0;
+  let dropLeft = latency;
+  let written = 0;
+
+  const grStages = built.stages.filter((s) => s.gainReduction);
+  const grScratch = grStages.map((s) => new Float64Array(s.gainReduction!.traceNames.length));
+  const grTraces = grStages.map((s) => s.gainReduction!.traceNames.map(() => [] as number[]));
+
+  const flush = async (): Promise<void> => {
+    if (outFill === 0) return;
+    meterOut.process(outBufs, outFill);
+    await writer.write(outBufs, outFill);
+    written += outFill;
+    outFill = 0;
+  };
+
+  const processChunk = async (frames: number): Promise<void> => {
+    for (const s of built.stages) s.processor.process(chunk, frames);
+    quantizer.process(chunk, frames);
+    for (let g = 0; g < grStages.length; g++) {
+      grStages[g].gainReduction!.takeGainReductionDb(grScratch[g]);
+      for (let t = 0; t < grScratch[g].length; t++) grTraces[g][t].push(grScratch[g][t]);
+    }
+    let from = 0;
+    if (dropLeft > 0) {
+      from = Math.min(frames, dropLeft);
+      dropLeft -= from;
+    }
+    // Never write past the input's length (the zero tail only flushes the latency).
+    const keep = Math.min(frames - from, totalFrames - written - outFill);
+    for (let i = 0; i < keep; ) {
+      const n = Math.min(keep - i, READ_FRAMES - outFill);
+      for (let c = 0; c < nch; c++) outBufs[c].set(chunk[c].subarray(from + i, from + i + n), outFill);
+      outFill += n;
+      i += n;
+      if (outFill === READ_FRAMES) await flush();
+    }
+  };
+
+  /** Feeds n frames from src (offset off) into the chunked chain. */
+  const feed = async (src: Float64Array[] | null, off: number, n: number): Promise<void> => {
+    let i = 0;
+    while (i < n) {
+      const k = Math.min(n - i, gridFrames - chunkFill);
+      for (let c = 0; c < nch; c++) {
+        if (src) chunk[c].set(src[c].subarray(off + i, off + i + k), chunkFill);
+        else chunk[c].fill(0, chunkFill, chunkFill + k);
+      }
+      chunkFill += k;
+      i += k;
+      if (chunkFill === gridFrames) {
+        await processChunk(gridFrames);
+        chunkFill = 0;
+      }
+    }
+  };
+
+  try {
+    let pos = 0;
+    let lastProgress = Date.now();
+    while (pos < endFrame) {
+      const n = await reader.read(readBufs, Math.min(readFrames, endFrame - pos));
+      if (n === 0) break;
+      const from = Math.max(0, startFrame - pos);
+      if (from < n) {
+        const use = n - from;
+        if (from > 0) for (let c = 0; c < nch; c++) readBufs[c].copyWithin(0, from, n);
+        meterIn.process(readBufs, use);
+        await feed(readBufs, 0, use);
+      }
+      pos += n;
+      const now = Date.now();
+      if (now - lastProgress >= PROGRESS_EVERY_MS) {
+        lastProgress = now;
+        onProgress(Math.max(0, pos - startFrame) / Math.max(1, totalFrames));
+      }
+    }
+    await feed(null, 0, latency);
+    if (chunkFill > 0) await processChunk(chunkFill);
+    await flush();
+    await writer.close();
+  } finally {
+    await reader.close();
+  }
+
+  const gridDrop = Math.round(latency / gridFrames);
+  const gridKeep = Math.ceil(totalFrames / gridFrames);
+  const stages: StageTrace[] = grStages.map((s, g) => ({
+    index: s.index,
+    type: s.type,
+    names: [...s.gainReduction!.traceNames],
+    gainReductionDb: grTraces[g].map((t) => t.slice(gridDrop, gridDrop + gridKeep).map((v) => Math.round(v * 1000) / 1000)),
+  }));
+  const inAnalysis = meterIn.result();
+  const outAnalysis = meterOut.result();
+  const durationS = totalFrames / sr;
+  const outBits = bitDepth === "32f" ? 32 : bitDepth;
+  return {
+    input: { ...inAnalysis, durationS, sampleRate: sr, channels: nch, bitDepth: fmt.bitDepth, format: fmt.formatName },
+    output: { ...outAnalysis, durationS, sampleRate: sr, channels: nch, bitDepth: outBits, format: bitDepth === "32f" ? "float 32-bit" : `PCM ${outBits}-bit` },
+    stages,
+    latencyFrames: latency,
+  };
+}
+
+/** Short-term loudness of a whole file on the GRID_MS grid (preview search). */
+async function shortTermCurve(inputPath: string): Promise<number[]> {
+  const reader = await openWav(inputPath);
+  try {
+    const { sampleRate, channels } = reader.format;
+    const meter = new LoudnessMeter(sampleRate, channels, { truePeak: false, gridMs: GRID_MS });
+    const bufs = Array.from({ length: channels }, () => new Float64Array(READ_FRAMES));
+    for (;;) {
+      const n = await reader.read(bufs, READ_FRAMES);
+      if (n === 0) break;
+      meter.process(bufs, n);
+    }
+    return meter.result().shortTermLufs;
+  } finally {
+    await reader.close();
+  }
+}
