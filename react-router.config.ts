@@ -5,4 +5,6 @@ import type { Config } from "@react-router/dev/config";
 export default {
   appDirectory: "app",
   ssr: true,
+  // Lets two builds of one checkout live apart (e.g. a check beside a running server).
+  buildDirectory: process.env.TIDEMARK_BUILD_DIR ?? "build",
 } satisfies Config;
