@@ -75,6 +75,28 @@ describe("resampler: tones above the new Nyquist frequency are removed", () => {
   });
 });
 
+describe("resampler: every pair of 44.1 / 48 / 88.2 / 96 / 176.4 / 192 kHz", () => {
+  const rates = [44100, 48000, 88200, 96000, 176400, 192000];
+  const pairs = rates.flatMap((a) => rates.filter((b) => b !== a).map((b) => [a, b] as const));
+  for (const [inputRate, outputRate] of pairs) {
+    it(`${inputRate} -> ${outputRate}: 1 kHz exact, nothing above the lower Nyquist frequency left`, () => {
+      const tone = convertTone(1000, inputRate, outputRate, 0.06);
+      const fit = fitTone(tone.out, 1000, outputRate, tone.start, tone.end);
+      expect(Math.abs(linearToDb(fit.amplitude / amplitude))).toBeLessThan(0.01);
+      expect(-linearToDb(fit.residualRms / (amplitude / Math.SQRT2))).toBeGreaterThan(100);
+      // Downsampling: a tone 5 % above the new Nyquist frequency must go.
+      // Upsampling: a tone at 80 % of the old Nyquist frequency must leave no image.
+      const nyquistHz = Math.min(inputRate, outputRate) / 2;
+      const probeHz = outputRate < inputRate ? 1.05 * nyquistHz : 0.8 * nyquistHz;
+      const probe = convertTone(probeHz, inputRate, outputRate, 0.06);
+      const leftRms = outputRate < inputRate
+        ? rms(probe.out, probe.start, probe.end)
+        : fitTone(probe.out, probeHz, outputRate, probe.start, probe.end).residualRms;
+      expect(-linearToDb(leftRms / (amplitude / Math.SQRT2))).toBeGreaterThan(90);
+    });
+  }
+});
+
 function seededNoise(frames: number, seed: number): Float64Array {
   let state = seed >>> 0;
   const out = new Float64Array(frames);
