@@ -21,6 +21,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   if (!(await findOpenInvitation(params.token))) throw notFound();
+  // Someone signed in is not the invitee's new account; same answer as the page.
+  if (await getUser(request)) throw redirect("/");
   const result = parseForm(acceptInvitationSchema, await request.formData());
   if (!result.ok) {
     const { password: _p, confirm: _c, ...values } = result.values;

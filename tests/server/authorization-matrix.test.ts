@@ -48,7 +48,7 @@ const cases: Case[] = [
   { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOut.action as Handler, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
   { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), expected: signedOutOnly },
   { route: "/invitations/:token (unknown)", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => "/invitations/unknown", params: () => ({ token: "x".repeat(43) }), expected: everyone("404") },
-  { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "action", handler: invitation.action as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), form: { name: "" }, expected: everyone("allowed") },
+  { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "action", handler: invitation.action as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), form: { name: "" }, expected: signedOutOnly },
   { route: "(workspace layout)", file: "routes/workspace.tsx", kind: "loader", handler: workspace.loader as Handler, path: () => "/", expected: signedIn },
   { route: "/", file: "routes/dashboard.tsx", kind: "loader", handler: dashboard.loader as Handler, path: () => "/", expected: signedIn },
   { route: "/releases", file: "routes/releases.tsx", kind: "loader", handler: releases.loader as Handler, path: () => "/releases", expected: staff },
