@@ -143,9 +143,15 @@ export async function getMix(id: string): Promise<Mix | undefined> {
   return row && fromRow(row);
 }
 
-/** A track's versions, newest first, with their analyses. */
+/**
+ * A track's versions, newest first, with their analyses' figures (the
+ * short-term loudness curve, thousands of numbers, is left out; getMix has it).
+ */
 export async function listMixVersions(trackId: string): Promise<Mix[]> {
-  const rows = await db("mixes").where({ track_id: trackId }).orderBy("version", "desc").select<MixRow[]>(columns);
+  const rows = await db("mixes")
+    .where({ track_id: trackId })
+    .orderBy("version", "desc")
+    .select<MixRow[]>([...columns.filter((c) => c !== "analysis"), db.raw("analysis - 'shortTermLufs' AS analysis")]);
   return rows.map(fromRow);
 }
 

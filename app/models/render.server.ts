@@ -122,8 +122,9 @@ export async function createRender(input: NewRender): Promise<Render> {
   const mixSeconds = Number(mix.frames) / mix.sample_rate_hz;
   const audioSeconds =
     input.kind === "print" ? mixSeconds : input.region ? input.region.endS - input.region.startS : Math.min(PREVIEW_SECONDS, mixSeconds);
-  // A loudness target costs a measuring pass before the rendering pass.
-  const passes = input.targetLufs != null ? 2 : 1;
+  // A loudness target takes a few passes (the renderer's search usually ends
+  // by the third), a preview without a region one analysis pass to find the loudest 30 s.
+  const passes = (input.targetLufs != null ? 4 : 1) + (input.kind === "preview" && !input.region ? 1 : 0);
   try {
     const jobId = await enqueueRender(row.id, audioSeconds, passes);
     // Only while still queued: a fast worker may already have claimed it and set job_id itself.
@@ -139,6 +140,29 @@ export async function createRender(input: NewRender): Promise<Render> {
 export async function getRender(id: string): Promise<Render | undefined> {
   const row = await db("renders").where({ id }).first<RenderRow | undefined>("*");
   return row && renderFromRow(row);
+}
+
+export type RenderStatus = Pick<Render, "id" | "state" | "progress" | "error" | "attempts" | "queuedAt" | "startedAt" | "finishedAt">;
+
+/** Only what a progress bar needs: cheap to poll, without the analyses. */
+export async function getRenderStatus(id: string): Promise<RenderStatus | undefined> {
+  const row = await db("renders")
+    .where({ id })
+    .first<Pick<RenderRow, "id" | "state" | "progress" | "error" | "attempts" | "queued_at" | "started_at" | "finished_at"> | undefined>(
+      "id", "state", "progress", "error", "attempts", "queued_at", "started_at", "finished_at",
+    );
+  return (
+    row && {
+      id: row.id,
+      state: row.state,
+      progress: row.progress,
+      error: row.error,
+      attempts: row.attempts,
+      queuedAt: row.queued_at,
+      startedAt: row.started_at,
+      finishedAt: row.finished_at,
+    }
+  );
 }
 
 /** A track's renders over all its mix versions, newest first. */

@@ -101,9 +101,9 @@ describe("renders in the queue", () => {
       const job = await boss.getJobById<{ renderId: string }>(settings.renderQueue, render.jobId!);
       expect(job?.data).toEqual({ renderId: render.id });
       expect(job?.state).toBe("created");
-      // 4 s of audio, two passes for the loudness target: 60 + 4 × 2 × 4 s (queue.server.ts).
+      // 4 s of audio, four passes allowed for the loudness target: 60 + 4 × 4 × 4 s (queue.server.ts).
       const expireIn = job!.expireIn;
-      expect((expireIn.hours ?? 0) * 3600 + (expireIn.minutes ?? 0) * 60 + (expireIn.seconds ?? 0)).toBe(92);
+      expect((expireIn.hours ?? 0) * 3600 + (expireIn.minutes ?? 0) * 60 + (expireIn.seconds ?? 0)).toBe(124);
 
       const cancelled = await cancelRender(render.id);
       expect(cancelled).toMatchObject({ state: "cancelled" });

@@ -5,6 +5,11 @@ import { randomUUID } from "node:crypto";
 import path from "node:path";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
 import { db } from "../../app/lib/db.server.ts";
+import { storage } from "../../app/lib/storage/storage.server.ts";
+import { addMixVersion, newMixKey, type Mix } from "../../app/models/mix.server.ts";
+import { getRender, type Render, type RenderState } from "../../app/models/render.server.ts";
+import { probeWav } from "../../dsp/io/wav-reader.ts";
+import { stat } from "node:fs/promises";
 
 export const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), "..", "..");
 
@@ -27,6 +32,12 @@ export async function createFixture(label: string): Promise<Fixture> {
     trackId: track.id,
     userId: user.id,
     async cleanup() {
+      // The stored files of this fixture's mixes and renders, then the rows.
+      const mixes = await db("mixes").where({ track_id: track.id }).select<{ id: string; storage_key: string }[]>("id", "storage_key");
+      const renders = await db("renders").whereIn("mix_id", mixes.map((m) => m.id)).select<{ output_key: string | null; traces_key: string | null }[]>("output_key", "traces_key");
+      for (const key of [...mixes.map((m) => m.storage_key), ...renders.flatMap((r) => [r.output_key, r.traces_key])]) {
+        if (key) await storage().delete(key);
+      }
       // Releases first: their client may not be deleted while they point at it.
       await db("releases").where({ studio_id: studio.id }).delete();
       await db("studios").where({ id: studio.id }).delete();
@@ -132,4 +143,45 @@ export function gentleChain(overrides: { ratio?: number; ceilingDbtp?: number } 
     ],
     output: { bitDepth: 24, dither: "tpdf" },
   };
+}
+
+/**
+ * What an upload does, without HTTP: a synthesized WAV stored through
+ * storage, read back by its header, and added as the track's next version
+ * (which queues its analysis).
+ */
+export async function uploadTestMix(fixture: Fixture, scratch: string, name: string, spec: ToneSpec): Promise<Mix> {
+  const filePath = path.join(scratch, name);
+  await writeTestWav(filePath, spec);
+  const { mixId, storageKey } = newMixKey(fixture.trackId);
+  await storage().put(storageKey, { filePath }, { contentType: "audio/wav" });
+  const format = await probeWav(filePath);
+  return addMixVersion({
+    id: mixId,
+    trackId: fixture.trackId,
+    originalName: name,
+    storageKey,
+    sizeBytes: (await stat(filePath)).size,
+    format: {
+      sampleRateHz: format.sampleRate,
+      channels: format.channels,
+      bitDepth: format.bitDepth as 16 | 24 | 32 | 64,
+      sampleFormat: format.sampleFormat,
+      frames: format.frames,
+    },
+    uploadedBy: fixture.userId,
+  });
+}
+
+/** Waits for a render to reach `state`; fails early, with its error, if it ends otherwise. */
+export async function waitForRender(renderId: string, state: RenderState, timeoutMs: number): Promise<Render> {
+  return waitFor(async () => {
+    const render = await getRender(renderId);
+    if (!render) throw new Error(`render ${renderId} is gone`);
+    if (render.state === state) return render;
+    if (["done", "failed", "cancelled"].includes(render.state)) {
+      throw new Error(`render ${renderId} ended ${render.state} (${render.error ?? "no error"}) instead of ${state}`);
+    }
+    return undefined;
+  }, timeoutMs, `render ${renderId} to be ${state}`);
 }
