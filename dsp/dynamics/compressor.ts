@@ -42,6 +42,8 @@ export class Compressor implements Processor, GainReductionSource {
   private readonly slope: number;
   private readonly knee: number;
   private readonly makeupDb: number;
+  private readonly makeupGain: number;
+  private readonly kneeStartPower: number;
   private maxReductionDb = 0;
 
   constructor(
@@ -61,6 +63,8 @@ export class Compressor implements Processor, GainReductionSource {
     this.slope = 1 - 1 / settings.ratio;
     this.knee = settings.kneeDb;
     this.makeupDb = settings.makeupDb;
+    this.makeupGain = Math.exp(this.makeupDb * DB_TO_GAIN);
+    this.kneeStartPower = Math.exp((this.threshold - this.knee / 2) / POWER_TO_DB);
   }
 
   reset(): void {
@@ -82,11 +86,14 @@ export class Compressor implements Processor, GainReductionSource {
     this.detector.process(detectIn, frames, power);
     const t = this.threshold, slope = this.slope, w = this.knee, hw = w / 2;
     const smoother = this.smoother;
+    const kneeStartPower = this.kneeStartPower;
     let maxGr = this.maxReductionDb;
     for (let i = 0; i < frames; i++) {
-      // Inlined gainReductionDb() (gain-computer.ts) for speed.
-      const over = Math.log(power[i] + TINY_POWER) * POWER_TO_DB - t;
+      // Inlined gainReductionDb() (gain-computer.ts) for speed; below the
+      // knee the target is 0 and the logarithm is skipped.
+      const p = power[i];
       let target = 0;
+      const over = p > kneeStartPower ? Math.log(p + TINY_POWER) * POWER_TO_DB - t : -Infinity;
       if (over > -hw) {
         if (over < hw) {
           const x = over + hw;
@@ -103,8 +110,16 @@ export class Compressor implements Processor, GainReductionSource {
   process(channels: Planar, frames: number): void {
     const gain = this.gain;
     this.detect(channels, frames, gain);
-    const makeup = this.makeupDb;
-    for (let i = 0; i < frames; i++) gain[i] = Math.exp((makeup - gain[i]) * DB_TO_GAIN);
+    const makeup = this.makeupDb, makeupGain = this.makeupGain;
+    let lastGr = 0, lastGain = makeupGain;
+    for (let i = 0; i < frames; i++) {
+      const gr = gain[i];
+      if (gr !== lastGr) {
+        lastGr = gr;
+        lastGain = gr === 0 ? makeupGain : Math.exp((makeup - gr) * DB_TO_GAIN);
+      }
+      gain[i] = lastGain;
+    }
     for (let c = 0; c < this.channels; c++) {
       const x = channels[c];
       for (let i = 0; i < frames; i++) x[i] *= gain[i];

@@ -17,6 +17,10 @@ export const AUTO_FAST_RELEASE_MS = 40;
 export const AUTO_SLOW_ATTACK_MS = 600;
 export const AUTO_SLOW_RELEASE_MS = 1200;
 
+// Reductions below this (dB) are flushed to 0: inaudible, and it lets the
+// compressor skip the gain computation once fully released.
+const FLUSH_BELOW_DB = 1e-9;
+
 export class GainSmoother {
   private readonly attack: number;
   private readonly release: number;
@@ -43,12 +47,14 @@ export class GainSmoother {
   next(targetDb: number): number {
     const f = this.fastDb;
     const cf = targetDb > f ? this.attack : this.release;
-    const fast = targetDb + cf * (f - targetDb);
+    let fast = targetDb + cf * (f - targetDb);
+    if (fast < FLUSH_BELOW_DB) fast = 0;
     this.fastDb = fast;
     if (!this.auto) return fast;
     const s = this.slowDb;
     const cs = targetDb > s ? this.slowAttack : this.slowRelease;
-    const slow = targetDb + cs * (s - targetDb);
+    let slow = targetDb + cs * (s - targetDb);
+    if (slow < FLUSH_BELOW_DB) slow = 0;
     this.slowDb = slow;
     return fast > slow ? fast : slow;
   }

@@ -25,17 +25,19 @@ export class SlidingMin {
     const now = this.count++;
     // Drop larger values from the back: they can never be the minimum again.
     while (this.size > 0) {
-      const back = (this.head + this.size - 1) % cap;
+      let back = this.head + this.size - 1;
+      if (back >= cap) back -= cap;
       if (this.values[back] >= v) this.size--;
       else break;
     }
-    const slot = (this.head + this.size) % cap;
+    let slot = this.head + this.size;
+    if (slot >= cap) slot -= cap;
     this.values[slot] = v;
     this.stamps[slot] = now;
     this.size++;
     // Drop the front when it falls out of the window.
     if (this.stamps[this.head] <= now - this.length) {
-      this.head = (this.head + 1) % cap;
+      this.head = this.head + 1 === cap ? 0 : this.head + 1;
       this.size--;
     }
     return this.values[this.head];

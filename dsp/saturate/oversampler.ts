@@ -31,6 +31,7 @@ class HalfBandPair {
     this.sideTaps = new Float64Array(this.half);
     for (let j = 0; j < this.half; j++) this.sideTaps[j] = h[2 * j];
     this.centreDelay = (c - 1) / 2;
+    if (this.half % 2 !== 0) throw new RangeError("the side-tap count must be even for the folded loop");
     const len = this.half - 1;
     this.upHist = new Float64Array(len + maxInFrames + 1);
     this.downEven = new Float64Array(len + maxInFrames + 1);
@@ -49,11 +50,13 @@ class HalfBandPair {
     const histLen = this.half - 1 + this.pad;
     const hist = this.upHist;
     hist.set(x.subarray(0, n), histLen);
-    const taps = this.sideTaps, half = this.half, d = this.centreDelay;
+    const taps = this.sideTaps, half = this.half, d = this.centreDelay, fold = half >> 1;
     for (let i = 0; i < n; i++) {
       const cur = histLen + i - this.pad;
+      // Linear phase: tap j equals tap half−1−j, so add the pair first.
       let acc = 0;
-      for (let j = 0; j < half; j++) acc += taps[j] * hist[cur - j];
+      const far = cur - half + 1;
+      for (let j = 0; j < fold; j++) acc += taps[j] * (hist[cur - j] + hist[far + j]);
       y[2 * i] = 2 * acc;
       y[2 * i + 1] = hist[cur - d];
     }
@@ -68,11 +71,12 @@ class HalfBandPair {
       ev[len + i] = u[2 * i];
       od[len + i] = u[2 * i + 1];
     }
-    const taps = this.sideTaps, half = this.half, oddDelay = this.centreDelay + 1;
+    const taps = this.sideTaps, half = this.half, oddDelay = this.centreDelay + 1, fold = half >> 1;
     for (let i = 0; i < n; i++) {
       const cur = len + i;
       let acc = 0;
-      for (let j = 0; j < half; j++) acc += taps[j] * ev[cur - j];
+      const far = cur - half + 1;
+      for (let j = 0; j < fold; j++) acc += taps[j] * (ev[cur - j] + ev[far + j]);
       x[i] = acc + 0.5 * od[cur - oddDelay];
     }
     ev.copyWithin(0, n, n + len);

@@ -66,7 +66,13 @@ export class Saturator implements Processor {
       const x = channels[c];
       const high = os.up(c, x, frames);
       const n = frames * os.factor;
-      for (let i = 0; i < n; i++) high[i] = Math.tanh(drive * high[i]);
+      // tanh(v) = 1 − 2/(e^(2v) + 1): Math.exp is much cheaper than Math.tanh
+      // here; the clamp keeps e^(2v) finite (tanh(±20) = ±1 in float64).
+      for (let i = 0; i < n; i++) {
+        let v = 2 * drive * high[i];
+        v = v > 40 ? 40 : v < -40 ? -40 : v;
+        high[i] = 1 - 2 / (Math.exp(v) + 1);
+      }
       os.down(c, wet, frames);
       const line = this.dryDelay[c];
       line.set(x.subarray(0, frames), delay);

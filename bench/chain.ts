@@ -1,0 +1,156 @@
+// Chain benchmark: a generated 4-minute stereo 48 kHz 24-bit file through the
+// full chain (EQ with four bands, one on the side; saturation at 2×; bus
+// compressor with auto release; four-band multiband; true-peak limiter; input
+// and output analysis), then a comparable ffmpeg filter graph on the same
+// file when ffmpeg is on PATH. Per-stage cost is measured in memory on the
+// same audio. TIDEMARK_BENCH_LONG=1 adds a 60-minute 96 kHz stereo render
+// for peak memory (slow: several minutes).
+// Run: npx tsx bench/chain.ts  (or through bench/run.ts)
+
+import { spawnSync } from "node:child_process";
+import { mkdtempSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { pathToFileURL } from "node:url";
+import { buildChain } from "../dsp/chain/build-chain.ts";
+import { parseChain, type Chain, type ChainInput } from "../dsp/chain/schema.ts";
+import { createWavWriter } from "../dsp/io/wav-writer.ts";
+import { LoudnessMeter } from "../dsp/loudness/meter.ts";
+import { Prng } from "../dsp/output/prng.ts";
+import { renderFile } from "../dsp/render/render-file.ts";
+
+const FS = 48000;
+const MINUTES = 4;
+
+export const BENCH_CHAIN: ChainInput = {
+  stages: [
+    { type: "eq", bands: [
+      { shape: "highPass", freqHz: 25, gainDb: 0, q: 0.707 },
+      { shape: "peak", freqHz: 300, gainDb: -1, q: 1.2 },
+      { shape: "peak", freqHz: 3000, gainDb: 0.8, q: 1.5 },
+      { shape: "highShelf", freqHz: 9000, gainDb: 0.6, q: 0.7, channel: "side" },
+    ] },
+    { type: "saturate", driveDb: 4, blend: 0.3, oversample: 2 },
+    { type: "compress", thresholdDb: -22, ratio: 2, kneeDb: 6, attackMs: 30, releaseMs: "auto", makeupDb: 1, rmsWindowMs: 20, sidechainHighPassHz: 90 },
+    { type: "multiband", crossoversHz: [90, 1000, 3000], bands: [0, 1, 2, 3].map(() => ({ thresholdDb: -26, ratio: 1.5, kneeDb: 6, attackMs: 20, releaseMs: 150, makeupDb: 0, rmsWindowMs: 20 })) },
+    { type: "limit", inputGainDb: 3, ceilingDbtp: -1, lookaheadMs: 3, releaseMs: 100, truePeak: true },
+  ],
+  output: { bitDepth: 24, dither: "tpdf" },
+};
+
+function chainOf(input: ChainInput): Chain {
+  const r = parseChain(input);
+  if (!r.ok) throw new Error(JSON.stringify(r.errors));
+  return r.chain;
+}
+
+/** A seeded, music-like test signal (tones, beat, filtered noise). */
+async function generate(path: string, seconds: number, sampleRate: number): Promise<void> {
+  const w = await createWavWriter(path, { sampleRate, channels: 2, bitDepth: 24, float: false });
+  const rnd = new Prng(42);
+  const block = 8192;
+  const l = new Float64Array(block), r = new Float64Array(block);
+  const total = Math.round(seconds * sampleRate);
+  let lp = 0;
+  for (let off = 0; off < total; off += block) {
+    const n = Math.min(block, total - off);
+    for (let i = 0; i < n; i++) {
+      const t = (off + i) / sampleRate;
+      const beat = Math.exp(-((t * 2) % 1) * 8);
+      lp += 0.05 * (rnd.next() * 2 - 1 - lp);
+      const v = 0.12 * (Math.sin(2 * Math.PI * 55 * t) + 0.5 * Math.sin(2 * Math.PI * 440 * t) + 0.3 * Math.sin(2 * Math.PI * 2500 * t)) * (0.5 + 0.5 * beat) + 0.6 * lp * beat;
+      l[i] = v;
+      r[i] = 0.85 * v + 0.05 * Math.sin(2 * Math.PI * 660 * t);
+    }
+    await w.write([l, r], n);
+  }
+  await w.close();
+}
+
+function perStageNs(chain: Chain, seconds: number): { type: string; nsPerSample: number }[] {
+  const frames = Math.round(seconds * FS);
+  const block = 480;
+  const built = buildChain(chain, FS, 2, block);
+  const rnd = new Prng(7);
+  const src = [new Float64Array(frames), new Float64Array(frames)].map((c) => c.map(() => (rnd.next() - 0.5) * 0.5));
+  const work = [new Float64Array(block), new Float64Array(block)];
+  const result: { type: string; nsPerSample: number }[] = [];
+  const inputs = src.map((c) => c.slice());
+  for (const stage of built.stages) {
+    const t0 = process.hrtime.bigint();
+    for (let off = 0; off + block <= frames; off += block) {
+      for (let c = 0; c < 2; c++) work[c].set(inputs[c].subarray(off, off + block));
+      stage.processor.process(work, block);
+      for (let c = 0; c < 2; c++) inputs[c].set(work[c], off);
+    }
+    const ns = Number(process.hrtime.bigint() - t0);
+    result.push({ type: stage.type, nsPerSample: ns / (frames * 2) });
+  }
+  const meter = new LoudnessMeter(FS, 2, { truePeak: true });
+  const t0 = process.hrtime.bigint();
+  meter.process(inputs, frames);
+  result.push({ type: "analysis (one meter, true peak)", nsPerSample: Number(process.hrtime.bigint() - t0) / (frames * 2) });
+  return result;
+}
+
+function ffmpegGraph(): string {
+  // The same shape: EQ bands, 4-band crossover with a compressor per band, a compressor, a limiter.
+  const band = "acompressor=threshold=0.05:ratio=1.5:attack=20:release=150";
+  return [
+    "highpass=f=25,equalizer=f=300:t=q:w=1.2:g=-1,equalizer=f=3000:t=q:w=1.5:g=0.8,treble=f=9000:g=0.6,",
+    "acrossover=split=90 1000 3000[b0][b1][b2][b3];",
+    `[b0]${band}[c0];[b1]${band}[c1];[b2]${band}[c2];[b3]${band}[c3];`,
+    "[c0][c1][c2][c3]amix=inputs=4:normalize=0,",
+    "acompressor=threshold=0.08:ratio=2:attack=30:release=200:makeup=1.12,",
+    "alimiter=limit=0.89:attack=3:release=100",
+  ].join("");
+}
+
+export async function run(): Promise<void> {
+  const dir = mkdtempSync(join(tmpdir(), "tidemark-bench-"));
+  try {
+    const input = join(dir, "in.wav");
+    const seconds = MINUTES * 60;
+    await generate(input, seconds, FS);
+    const chain = chainOf(BENCH_CHAIN);
+    const rssBefore = process.memoryUsage().rss;
+    let peakRss = rssBefore;
+    const timer = setInterval(() => (peakRss = Math.max(peakRss, process.memoryUsage().rss)), 50);
+    const t0 = performance.now();
+    const res = await renderFile(input, join(dir, "out.wav"), chain);
+    const ms = performance.now() - t0;
+    clearInterval(timer);
+    peakRss = Math.max(peakRss, process.memoryUsage().rss);
+    console.log(`chain: ${MINUTES} min stereo 48 kHz 24-bit, full chain + input/output analysis (true peak)`);
+    console.log(`  render ${(ms / 1000).toFixed(2)} s, ${(seconds / (ms / 1000)).toFixed(1)}x real time, ${((ms * 1e6) / (seconds * FS * 2)).toFixed(1)} ns per sample per channel (all stages)`);
+    console.log(`  peak RSS ${(peakRss / 2 ** 20).toFixed(0)} MB (before render ${(rssBefore / 2 ** 20).toFixed(0)} MB)`);
+    console.log(`  output ${res.output.integratedLufs.toFixed(2)} LUFS, ${res.output.truePeakDbtp.toFixed(2)} dBTP`);
+    console.log("  per stage (20 s of noise in memory), ns per sample per channel:");
+    for (const s of perStageNs(chain, 20)) console.log(`    ${s.type.padEnd(34)} ${s.nsPerSample.toFixed(1)}`);
+
+    if (spawnSync("ffmpeg", ["-version"]).status === 0) {
+      const f0 = performance.now();
+      const r = spawnSync("ffmpeg", ["-v", "error", "-y", "-threads", "1", "-filter_threads", "1", "-i", input, "-filter_complex", ffmpegGraph(), "-c:a", "pcm_s24le", join(dir, "ff.wav")], { encoding: "utf8" });
+      const fms = performance.now() - f0;
+      if (r.status === 0) {
+        console.log(`ffmpeg graph (eq x4, acrossover 4 bands + acompressor each, acompressor, alimiter; one thread): ${(fms / 1000).toFixed(2)} s, ${(seconds / (fms / 1000)).toFixed(1)}x real time`);
+        console.log(`  speed ratio tidemark/ffmpeg: ${(fms / ms).toFixed(2)} (above 1 = tidemark faster; tidemark also meters input and output)`);
+      } else console.log(`ffmpeg graph failed: ${r.stderr.trim()}`);
+    } else console.log("ffmpeg not on PATH: comparison skipped");
+
+    if (process.env.TIDEMARK_BENCH_LONG === "1") {
+      const long = join(dir, "long.wav");
+      await generate(long, 3600, 96000);
+      let peak = process.memoryUsage().rss;
+      const t = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss)), 100);
+      const l0 = performance.now();
+      await renderFile(long, join(dir, "long-out.wav"), chain);
+      clearInterval(t);
+      console.log(`60 min stereo 96 kHz: ${((performance.now() - l0) / 1000).toFixed(1)} s, peak RSS ${(peak / 2 ** 20).toFixed(0)} MB`);
+    } else console.log("60-minute 96 kHz memory run: set TIDEMARK_BENCH_LONG=1");
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) await run();
