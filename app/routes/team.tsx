@@ -120,7 +120,7 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
           <h2 id="invite-heading" className="mb-3 text-lg font-semibold">
             Invite someone
           </h2>
-          <Form method="post" className="card space-y-4 p-5" noValidate>
+          <Form key={invite?.inviteLink ?? "invite"} method="post" className="card space-y-4 p-5" noValidate>
             <input type="hidden" name="intent" value="invite" />
             <TextField label="E-mail" name="email" type="email" defaultValue={invite?.values.email} error={invite?.errors.email} required />
             <div className="grid gap-4 sm:grid-cols-2">
@@ -156,28 +156,19 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
             )}
           </Form>
           {invitations.length > 0 && (
-            <div className="card mt-4 overflow-x-auto">
-              <table className="data-table" aria-label="Pending invitations">
-                <thead>
-                  <tr>
-                    <th scope="col">Invited</th>
-                    <th scope="col">Role</th>
-                    <th scope="col">Expires</th>
-                  </tr>
-                </thead>
-                <tbody>
-                  {invitations.map((inv) => (
-                    <tr key={inv.id}>
-                      <td className="break-all">{inv.email}</td>
-                      <td>
-                        {ROLE_LABELS[inv.role]}
-                        {inv.clientName && ` · ${inv.clientName}`}
-                      </td>
-                      <td className="num whitespace-nowrap">{inv.expiresAt}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
+            <div className="mt-4">
+              <h3 className="mb-2 text-sm font-semibold text-ink-soft">Waiting to be accepted</h3>
+              <ul className="card divide-y divide-rule/70" aria-label="Pending invitations">
+                {invitations.map((inv) => (
+                  <li key={inv.id} className="px-4 py-3">
+                    <p className="font-medium break-all">{inv.email}</p>
+                    <p className="text-sm text-ink-soft">
+                      {ROLE_LABELS[inv.role]}
+                      {inv.clientName && ` · ${inv.clientName}`} · until <span className="num">{inv.expiresAt}</span>
+                    </p>
+                  </li>
+                ))}
+              </ul>
             </div>
           )}
         </section>
@@ -195,7 +186,7 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
               </li>
             ))}
           </ul>
-          <Form method="post" className="card space-y-4 p-5" noValidate>
+          <Form key={client?.message ?? "client"} method="post" className="card space-y-4 p-5" noValidate>
             <input type="hidden" name="intent" value="client" />
             <FormNotice message={client?.message && Object.keys(client.errors).length === 0 ? client.message : undefined} tone="info" />
             <div className="grid gap-4 sm:grid-cols-[1fr_10rem]">
