@@ -102,8 +102,14 @@ export async function startWorker(env: Record<string, string>): Promise<WorkerPr
     stdio: ["ignore", "pipe", "pipe"],
   });
   let output = "";
-  child.stdout!.on("data", (chunk) => (output += chunk));
-  child.stderr!.on("data", (chunk) => (output += chunk));
+  // TIDEMARK_TEST_WORKER_LOGS=1 shows the workers' logs while a test runs.
+  const echo = process.env.TIDEMARK_TEST_WORKER_LOGS === "1";
+  const collect = (chunk: Buffer) => {
+    output += chunk;
+    if (echo) process.stderr.write(chunk);
+  };
+  child.stdout!.on("data", collect);
+  child.stderr!.on("data", collect);
   const exited = new Promise<number | null>((resolve) => child.on("exit", (code) => resolve(code)));
   await waitFor(async () => output.includes("ready:") || child.exitCode !== null, 30_000, "the worker to start");
   if (child.exitCode !== null) throw new Error(`the worker exited at start:\n${output}`);
