@@ -30,7 +30,7 @@ import { Quantizer } from "../output/quantizer.ts";
 import { loudestWindow } from "./loudest-window.ts";
 
 export const GRID_MS = 10;
-export const READ_FRAMES = 4096;
+export const READ_FRAMES = 32768;
 export const TARGET_TOLERANCE_LU = 0.1;
 /** Stop searching once this close (margin inside the ±0.1 LU promise). */
 const TARGET_AIM_LU = 0.03;
@@ -110,12 +110,13 @@ export async function renderFile(inputPath: string, outputPath: string, chain: C
   try {
     let gainDb = 0;
     let pass = 0;
-    let result: PassResult;
+    let result: PassResult | undefined;
     let previous: { gainDb: number; lufs: number } | null = null;
     for (;;) {
       const passIndex = pass;
       result = await renderPass(inputPath, tmpPath, chain, gainDb, region, options.readFrames ?? READ_FRAMES, (f) =>
         options.onProgress?.(Math.min(0.99, (passIndex + f) / Math.max(expectedPasses, passIndex + 1))),
+        pass > 0 ? result!.input : null,
       );
       pass++;
       if (target === undefined) break;
@@ -128,6 +129,7 @@ export async function renderFile(inputPath: string, outputPath: string, chain: C
       previous = { gainDb, lufs };
       gainDb = Math.max(-MAX_TARGET_GAIN_DB, Math.min(MAX_TARGET_GAIN_DB, gainDb + (target - lufs) / slope));
     }
+    if (!result) throw new Error("no render pass ran");
     await rename(tmpPath, outputPath);
     options.onProgress?.(1);
     return {
@@ -162,6 +164,7 @@ async function renderPass(
   region: RenderRegion | undefined,
   readFrames: number,
   onProgress: (fraction: number) => void,
+  previousInput: RenderAnalysis | null,
 ): Promise<PassResult> {
   const reader = await openWav(inputPath);
   const fmt = reader.format;
@@ -172,13 +175,15 @@ async function renderPass(
   const bitDepth = chain.output.bitDepth;
   const quantizer = new Quantizer(nch, bitDepth, chain.output.dither);
   const writer = await createWavWriter(outPath, { sampleRate: sr, channels: nch, bitDepth: bitDepth === "32f" ? 32 : bitDepth, float: bitDepth === "32f" });
-  const meterIn = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
+  // The input is the same on every pass: meter it once.
+  const meterIn = previousInput ? null : new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
   const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
   const startFrame = region ? Math.round(region.startS * sr) : 0;
   const endFrame = region ? Math.min(fmt.frames, Math.round(region.endS * sr)) : fmt.frames;
   const totalFrames = endFrame - startFrame;
 
   const readBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
+  const spareBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
   const chunk = Array.from({ length: nch }, () => new Float64Array(gridFrames));
   const outBufs = Array.from({ length: nch }, () => new Float64Array(READ_FRAMES));
   let outFill = 0;
@@ -242,17 +247,28 @@ async function renderPass(
   try {
     let pos = 0;
     let lastProgress = Date.now();
+    // Double-buffered: the next read is in flight while this block is processed.
+    let current = readBufs;
+    let spare = spareBufs;
+    let pending = reader.read(current, Math.min(readFrames, endFrame));
     while (pos < endFrame) {
-      const n = await reader.read(readBufs, Math.min(readFrames, endFrame - pos));
+      const n = await pending;
       if (n === 0) break;
+      const bufs = current;
+      const nextPos = pos + n;
+      if (nextPos < endFrame) {
+        current = spare;
+        spare = bufs;
+        pending = reader.read(current, Math.min(readFrames, endFrame - nextPos));
+      } else pending = Promise.resolve(0);
       const from = Math.max(0, startFrame - pos);
       if (from < n) {
         const use = n - from;
-        if (from > 0) for (let c = 0; c < nch; c++) readBufs[c].copyWithin(0, from, n);
-        meterIn.process(readBufs, use);
-        await feed(readBufs, 0, use);
+        if (from > 0) for (let c = 0; c < nch; c++) bufs[c].copyWithin(0, from, n);
+        meterIn?.process(bufs, use);
+        await feed(bufs, 0, use);
       }
-      pos += n;
+      pos = nextPos;
       const now = Date.now();
       if (now - lastProgress >= PROGRESS_EVERY_MS) {
         lastProgress = now;
@@ -275,12 +291,12 @@ async function renderPass(
     names: [...s.gainReduction!.traceNames],
     gainReductionDb: grTraces[g].map((t) => t.slice(gridDrop, gridDrop + gridKeep).map((v) => Math.round(v * 1000) / 1000)),
   }));
-  const inAnalysis = meterIn.result();
+  const inAnalysis = meterIn ? meterIn.result() : previousInput!;
   const outAnalysis = meterOut.result();
   const durationS = totalFrames / sr;
   const outBits = bitDepth === "32f" ? 32 : bitDepth;
   return {
-    input: { ...inAnalysis, durationS, sampleRate: sr, channels: nch, bitDepth: fmt.bitDepth, format: fmt.formatName },
+    input: meterIn ? { ...inAnalysis, durationS, sampleRate: sr, channels: nch, bitDepth: fmt.bitDepth, format: fmt.formatName } : previousInput!,
     output: { ...outAnalysis, durationS, sampleRate: sr, channels: nch, bitDepth: outBits, format: bitDepth === "32f" ? "float 32-bit" : `PCM ${outBits}-bit` },
     stages,
     latencyFrames: latency,
