@@ -1,0 +1,103 @@
+// The loudness report of a release: one row per track and delivery format,
+// from the analysis of the delivered file. Measures after ITU-R BS.1770-4 /
+// EBU R 128: integrated loudness (LUFS), loudness range (LU, EBU Tech 3342),
+// true peak (dBTP). Derived here:
+//   PLR (peak-to-loudness ratio, dB) = true peak − integrated loudness
+//   turn-down at a reference (dB)     = max(0, integrated − reference)
+// A track with no finished delivery in a format gets a row without numbers.
+import { toCsv, type CsvCell } from "./csv.ts";
+import { turnDownDb, type NormalisationReference } from "./normalisation.ts";
+
+export interface DeliveryMeasures {
+  integratedLufs: number;
+  loudnessRangeLu: number;
+  truePeakDbtp: number;
+}
+
+export interface ReportInput {
+  tracks: readonly { trackId: string; position: number; title: string; isrc: string | null }[];
+  formats: readonly { formatId: string; name: string }[];
+  /** Finished deliveries by track and format. */
+  deliveries: readonly { trackId: string; formatId: string; analysis: DeliveryMeasures; warnings: readonly string[] }[];
+  references: readonly NormalisationReference[];
+}
+
+export interface ReportRow {
+  position: number;
+  title: string;
+  isrc: string | null;
+  format: string;
+  delivered: boolean;
+  /** null where the delivery is missing or the file is silent (−∞). */
+  integratedLufs: number | null;
+  loudnessRangeLu: number | null;
+  truePeakDbtp: number | null;
+  plrDb: number | null;
+  /** One per reference, in the order of the references; null where there is no loudness. */
+  turnDownDb: (number | null)[];
+  warnings: string[];
+}
+
+export interface LoudnessReport {
+  references: NormalisationReference[];
+  rows: ReportRow[];
+}
+
+const finite = (v: number | undefined): number | null => (typeof v === "number" && Number.isFinite(v) ? v : null);
+
+export function buildLoudnessReport(input: ReportInput): LoudnessReport {
+  const byKey = new Map(input.deliveries.map((d) => [`${d.trackId} ${d.formatId}`, d]));
+  const rows: ReportRow[] = [];
+  for (const track of [...input.tracks].sort((a, b) => a.position - b.position)) {
+    for (const format of input.formats) {
+      const d = byKey.get(`${track.trackId} ${format.formatId}`);
+      const integrated = finite(d?.analysis.integratedLufs);
+      const truePeak = finite(d?.analysis.truePeakDbtp);
+      rows.push({
+        position: track.position,
+        title: track.title,
+        isrc: track.isrc,
+        format: format.name,
+        delivered: d !== undefined,
+        integratedLufs: integrated,
+        loudnessRangeLu: finite(d?.analysis.loudnessRangeLu),
+        truePeakDbtp: truePeak,
+        plrDb: integrated !== null && truePeak !== null ? truePeak - integrated : null,
+        turnDownDb: input.references.map((r) => (integrated === null ? null : turnDownDb(integrated, r.lufs))),
+        warnings: d ? [...d.warnings] : ["not delivered"],
+      });
+    }
+  }
+  return { references: input.references.map((r) => ({ ...r })), rows };
+}
+
+/** Fixed decimals, as a number (so the CSV holds numbers, not text). */
+const round = (v: number | null, decimals: number): number | null => (v === null ? null : Number(v.toFixed(decimals)) + 0);
+
+export function loudnessReportCsv(report: LoudnessReport): string {
+  const header: CsvCell[] = [
+    "Track",
+    "Title",
+    "ISRC",
+    "Format",
+    "Integrated (LUFS)",
+    "Loudness range (LU)",
+    "True peak (dBTP)",
+    "PLR (dB)",
+    ...report.references.map((r) => `Turn-down at ${r.name} ${r.lufs} LUFS (dB)`),
+    "Warnings",
+  ];
+  const rows = report.rows.map((r): CsvCell[] => [
+    r.position,
+    r.title,
+    r.isrc ?? "",
+    r.format,
+    round(r.integratedLufs, 1),
+    round(r.loudnessRangeLu, 1),
+    round(r.truePeakDbtp, 2),
+    round(r.plrDb, 1),
+    ...r.turnDownDb.map((v) => round(v, 1)),
+    r.warnings.join("; "),
+  ]);
+  return toCsv([header, ...rows]);
+}
