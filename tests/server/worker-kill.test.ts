@@ -55,8 +55,8 @@ afterAll(async () => {
   await db.destroy();
 });
 
-/** Starts a render on a fresh worker (the only one) and SIGKILLs it once the render has made progress. */
-async function renderAndKill(retryLimit: string) {
+/** Starts a render on a fresh worker (the only one) and stops it by `signal` once the render has made progress. */
+async function renderAndKill(retryLimit: string, signal: NodeJS.Signals = "SIGKILL") {
   for (const worker of workers) await worker.stop();
   process.env.RENDER_JOB_RETRY_LIMIT = retryLimit;
   const victim = await start({ RENDER_JOB_RETRY_LIMIT: retryLimit });
@@ -65,7 +65,11 @@ async function renderAndKill(retryLimit: string) {
     const status = await getRenderStatus(render.id);
     return status?.state === "running" && status.progress > 0 && status.progress < 1;
   }, 60_000, "the render to be half-way");
-  process.kill(victim.pid, "SIGKILL");
+  process.kill(victim.pid, signal);
+  if (signal !== "SIGKILL") {
+    expect(await victim.exited).toBe(0);
+    return render;
+  }
   await victim.exited;
   const stranded = await getRenderStatus(render.id);
   expect(stranded?.state).toBe("running");
@@ -102,5 +106,15 @@ describe("a worker killed in the middle of a job", () => {
     expect(failed.attempts).toBe(1);
     expect(failed.error).toMatch(/stopped without finishing after 1 attempts: the worker rendering it stopped answering or ran past its time limit of 8 s/);
     expect(failed.finishedAt).toBeInstanceOf(Date);
+  });
+
+  it("on SIGTERM hands its running render back at once; another worker completes it", async () => {
+    // WORKER_SHUTDOWN_GRACE_SECONDS=0: no waiting for the render to end.
+    const render = await renderAndKill("2", "SIGTERM");
+    const handedBack = await getRenderStatus(render.id);
+    expect(handedBack).toMatchObject({ state: "queued", progress: 0, error: "The worker stopped; the render waits for another." });
+    await start({ RENDER_JOB_RETRY_LIMIT: "2" });
+    const done = await waitForRender(render.id, "done", 60_000);
+    expect(done.attempts).toBe(2);
   });
 });
