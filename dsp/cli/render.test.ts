@@ -48,7 +48,7 @@ describe("tidemark render (end to end)", () => {
     expect(existsSync(join(dir, "x.wav"))).toBe(false);
   });
 
-  it("exits 2 for a missing or non-WAV input and for bad arguments", () => {
+  it("exits 2 for a missing or non-WAV input, 1 for bad arguments", () => {
     const chain = join(ROOT, "examples/gentle-master.json");
     expect(tidemark([join(dir, "nope.wav"), "--chain", chain, "--out", join(dir, "y.wav")]).status).toBe(2);
     const junk = join(dir, "junk.wav");
@@ -56,7 +56,9 @@ describe("tidemark render (end to end)", () => {
     const r = tidemark([junk, "--chain", chain, "--out", join(dir, "y.wav")]);
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/junk\.wav/);
-    expect(tidemark([junk, "--chain", chain]).status).toBe(2);
-    expect(tidemark([junk, "--chain", chain, "--out", "z.wav", "--region", "5:2"]).status).toBe(2);
+    expect(tidemark([junk, "--chain", chain]).status).toBe(1);
+    const region = tidemark([junk, "--chain", chain, "--out", "z.wav", "--region", "5:2"]);
+    expect(region.status).toBe(1);
+    expect(region.stderr).toContain("--region must be START:END");
   });
 });

@@ -2,7 +2,8 @@
 //  [--region START:END] [--target LUFS] [--preview]`
 // Prints { input, output, passes, … } as JSON on stdout (short-term curves
 // go to the traces file only), progress on stderr when it is a terminal.
-// Exit codes: 0 done, 2 bad arguments, chain or input, 1 anything else.
+// Exit codes (as dsp/cli/main.ts): 0 done, 1 usage, 2 bad chain or input
+// (message on stderr); anything unexpected is thrown to the dispatcher.
 
 import { readFile, writeFile } from "node:fs/promises";
 import { pathToFileURL } from "node:url";
@@ -70,7 +71,7 @@ export async function runRender(argv: string[]): Promise<number> {
   } catch (err) {
     if (err instanceof UsageError) {
       process.stderr.write(`tidemark render: ${err.message}\n${RENDER_USAGE}\n`);
-      return 2;
+      return 1;
     }
     throw err;
   }

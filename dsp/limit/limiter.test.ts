@@ -123,3 +123,15 @@ describe("limiter, true-peak mode (checked by our BS.1770-4 Annex 2 meter and by
     });
   }
 });
+
+describe("limiter, true-peak mode, under the ceiling", () => {
+  it("passes a signal that never reaches the ceiling unchanged after alignment (difference below −140 dBFS)", () => {
+    const lim = new Limiter(FS, 2, settings({ truePeak: true }), 1024, new TruePeakDetector(FS, 2, 1024));
+    const x = new Float64Array(FS).map((_, i) => 0.7 * Math.sin((2 * Math.PI * 1000 * i) / FS) + 0.1 * Math.sin((2 * Math.PI * 9000 * i) / FS));
+    const [L, R] = runLimiter(lim, x, x.map((v) => -v), 1000);
+    const d = lim.latencyFrames;
+    let maxDiff = 0;
+    for (let i = d; i < x.length; i++) maxDiff = Math.max(maxDiff, Math.abs(L[i] - x[i - d]), Math.abs(R[i] + x[i - d]));
+    expect(maxDiff === 0 || 20 * Math.log10(maxDiff) < -140).toBe(true);
+  });
+});
