@@ -4,7 +4,8 @@
 // and output analysis), then a comparable ffmpeg filter graph on the same
 // file when ffmpeg is on PATH. Per-stage cost is measured in memory on the
 // same audio. TIDEMARK_BENCH_LONG=1 adds a 60-minute 96 kHz stereo render
-// for peak memory (slow: several minutes).
+// for peak memory (slow: several minutes; TIDEMARK_BENCH_LONG_MINUTES=N for
+// a shorter file).
 // Run: npx tsx bench/chain.ts  (or through bench/run.ts)
 
 import { spawnSync } from "node:child_process";
@@ -141,14 +142,16 @@ export async function run(): Promise<void> {
     } else console.log("ffmpeg not on PATH: comparison skipped");
 
     if (process.env.TIDEMARK_BENCH_LONG === "1") {
+      // TIDEMARK_BENCH_LONG_MINUTES shortens it (memory should not depend on length).
+      const minutes = Number(process.env.TIDEMARK_BENCH_LONG_MINUTES ?? 60);
       const long = join(dir, "long.wav");
-      await generate(long, 3600, 96000);
+      await generate(long, minutes * 60, 96000);
       let peak = process.memoryUsage().rss;
       const t = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss)), 100);
       const l0 = performance.now();
       await renderFile(long, join(dir, "long-out.wav"), chain);
       clearInterval(t);
-      console.log(`60 min stereo 96 kHz: ${((performance.now() - l0) / 1000).toFixed(1)} s, peak RSS ${(peak / 2 ** 20).toFixed(0)} MB`);
+      console.log(`${minutes} min stereo 96 kHz 24-bit: ${((performance.now() - l0) / 1000).toFixed(1)} s, peak RSS ${(peak / 2 ** 20).toFixed(0)} MB`);
     } else console.log("60-minute 96 kHz memory run: set TIDEMARK_BENCH_LONG=1");
   } finally {
     rmSync(dir, { recursive: true, force: true });

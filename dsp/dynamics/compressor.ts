@@ -107,7 +107,8 @@ export class Compressor implements Processor, GainReductionSource {
     this.maxReductionDb = maxGr;
   }
 
-  process(channels: Planar, frames: number): void {
+  /** Linear gain (makeup included) per frame into this.gain. */
+  private computeGain(channels: Planar, frames: number): Float64Array {
     const gain = this.gain;
     this.detect(channels, frames, gain);
     const makeup = this.makeupDb, makeupGain = this.makeupGain;
@@ -120,9 +121,23 @@ export class Compressor implements Processor, GainReductionSource {
       }
       gain[i] = lastGain;
     }
+    return gain;
+  }
+
+  process(channels: Planar, frames: number): void {
+    const gain = this.computeGain(channels, frames);
     for (let c = 0; c < this.channels; c++) {
       const x = channels[c];
       for (let i = 0; i < frames; i++) x[i] *= gain[i];
+    }
+  }
+
+  /** Compresses `input` and adds the result to `out` (multiband summing); `input` is left as is. */
+  processAdd(input: Planar, out: Planar, frames: number): void {
+    const gain = this.computeGain(input, frames);
+    for (let c = 0; c < this.channels; c++) {
+      const x = input[c], y = out[c];
+      for (let i = 0; i < frames; i++) y[i] += x[i] * gain[i];
     }
   }
 

@@ -24,6 +24,7 @@ export class MultibandCompressor implements Processor, GainReductionSource {
   private readonly compressors: (Compressor | null)[];
   private readonly audible: boolean[];
   private readonly one = new Float64Array(1);
+  private readonly scratch: Float64Array;
 
   constructor(sampleRate: number, readonly channels: number, settings: MultibandSettings, maxBlockFrames: number) {
     if (settings.bands.length !== settings.crossoversHz.length + 1) {
@@ -34,6 +35,7 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     const anySolo = settings.bands.some((b) => b.solo);
     this.audible = settings.bands.map((b) => !anySolo || !!b.solo);
     this.traceNames = settings.bands.map((_, i) => `band${i + 1}`);
+    this.scratch = new Float64Array(maxBlockFrames);
   }
 
   reset(): void {
@@ -46,13 +48,17 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     for (let c = 0; c < this.channels; c++) channels[c].fill(0, 0, frames);
     const bands = this.splitter.bands;
     for (let b = 0; b < bands.length; b++) {
-      // A muted band is still compressed so its trace stays meaningful.
-      this.compressors[b]?.process(bands[b], frames);
-      if (!this.audible[b]) continue;
-      for (let c = 0; c < this.channels; c++) {
-        const out = channels[c], band = bands[b][c];
-        for (let i = 0; i < frames; i++) out[i] += band[i];
-      }
+      const comp = this.compressors[b];
+      if (this.audible[b]) {
+        if (comp) comp.processAdd(bands[b], channels, frames);
+        else {
+          for (let c = 0; c < this.channels; c++) {
+            const out = channels[c], band = bands[b][c];
+            for (let i = 0; i < frames; i++) out[i] += band[i];
+          }
+        }
+        // A muted (not soloed) band still runs its detector so its trace stays meaningful.
+      } else comp?.detect(bands[b], frames, this.scratch);
     }
   }
 
