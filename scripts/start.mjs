@@ -2,7 +2,8 @@
 // `npm start`: installs what is missing, starts PostgreSQL and the local fakes
 // on loopback, migrates, seeds the demo when empty, builds, and serves.
 // Ctrl-C stops everything it started.
-import { existsSync, readdirSync } from "node:fs";
+import { existsSync, readFileSync, writeFileSync, mkdirSync } from "node:fs";
+import { randomBytes } from "node:crypto";
 import path from "node:path";
 import { root, log, fail, run, ensureNodeModules, portFree, spawn } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
@@ -25,6 +26,18 @@ process.on("SIGINT", () => stopAll(0));
 process.on("SIGTERM", () => stopAll(0));
 
 const env = { ...process.env, PORT: String(port), HOST: process.env.HOST ?? "127.0.0.1" };
+// The production server refuses to start without a secret: keep a random one
+// for this checkout in the git-ignored .data/ unless one is given.
+if (!env.SESSION_SECRET) {
+  const secretFile = path.join(root, ".data", "session-secret");
+  if (!existsSync(secretFile)) {
+    mkdirSync(path.dirname(secretFile), { recursive: true });
+    writeFileSync(secretFile, randomBytes(32).toString("hex"), { mode: 0o600 });
+  }
+  env.SESSION_SECRET = readFileSync(secretFile, "utf8").trim();
+}
+// Plain http on loopback: the cookie cannot be Secure here.
+if (env.HOST === "127.0.0.1" || env.HOST === "localhost") env.TIDEMARK_INSECURE_COOKIES ??= "1";
 if (!process.env.DATABASE_URL) {
   pg = await ensurePostgres();
   ensureDatabase(pg, "tidemark");
