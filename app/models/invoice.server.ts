@@ -9,7 +9,7 @@ import { assertMove, type InvoiceState } from "../lib/billing/invoice-state.ts";
 import { publicAppUrl, releaseInvoiceLink } from "../lib/billing/links.ts";
 import { queueEmail } from "../lib/mail/mailer.server.ts";
 import { invoiceSentEmail } from "../lib/mail/templates.server.ts";
-import { createCheckoutSession } from "../lib/payments/payments.server.ts";
+import { createCheckoutSession, getPaymentsClient } from "../lib/payments/payments.server.ts";
 import { getStudioSettings, takeInvoiceNumber } from "./studio-settings.server.ts";
 
 type Conn = Knex | Knex.Transaction;
@@ -216,8 +216,8 @@ export async function voidInvoice(invoiceId: string, conn: Knex = db): Promise<I
 
 /**
  * Opens a hosted payment page for a sent invoice and remembers its session,
- * so the completed-payment event can be matched to the invoice. A new
- * checkout replaces the session remembered before.
+ * so the completed-payment event can be matched to the invoice. An open
+ * page is reused; once it expired, a new one replaces it.
  */
 export async function startCheckout(
   invoiceId: string,
@@ -228,6 +228,12 @@ export async function startCheckout(
   const row = await conn<InvoiceRow>("invoices").where({ id: invoiceId }).first();
   if (!row) throw new BillingError("no such invoice");
   if (row.state !== "sent") throw new BillingError(`only a sent invoice can be paid (this one is ${row.state})`);
+  // A payment page still open is offered again: a second page would replace the
+  // remembered session, and paying on the first would then not be recognised.
+  if (row.checkout_session_id) {
+    const open = await (options.client ?? getPaymentsClient()).checkout.sessions.retrieve(row.checkout_session_id).catch(() => null);
+    if (open && open.status === "open" && open.url && open.amount_total === row.total_cents) return { sessionId: open.id, url: open.url };
+  }
   const names = await releaseAndStudio(conn, row.release_id);
   const session = await createCheckoutSession(
     {

@@ -289,3 +289,22 @@ describe("events that must not mark an invoice paid", () => {
     expect((await getInvoice(fresh.id))!.state).toBe("draft");
   });
 });
+
+describe("two deliveries of one event at once", () => {
+  it("mark the invoice paid once and queue one receipt; an open payment page is reused", async () => {
+    const releaseId = await addRelease("Driftglass");
+    const invoice = await buildInvoice(releaseId);
+    await sendInvoice(invoice.id, { appUrl: "http://127.0.0.1:3100" });
+    const first = await startCheckout(invoice.id, urls, { client });
+    const again = await startCheckout(invoice.id, urls, { client });
+    expect(again).toEqual(first);
+    const body = completedEvent({ id: first.sessionId, amount_total: invoice.totalCents, currency: "eur" });
+    const signature = signPayload(body, DEFAULT_WEBHOOK_SECRET);
+    const results = await Promise.all([postToWebhook(body, signature), postToWebhook(body, signature), postToWebhook(body, signature)]);
+    expect(results.map((r) => r.status)).toEqual([200, 200, 200]);
+    expect(results.map((r) => r.body.outcome).sort()).toEqual(["paid", "replay", "replay"]);
+    expect((await invoiceRow(invoice.id)).state).toBe("paid");
+    expect(await outboxFor(invoice.id, "payment-receipt")).toHaveLength(1);
+    expect(await isReleasePaid(releaseId)).toBe(true);
+  });
+});
