@@ -244,3 +244,94 @@ export async function askForChanges(input: { renderId: string; userId: string; n
 export async function approveRender(input: { renderId: string; userId: string; link: string }): Promise<ReviewResult> {
   return verdict({ ...input, note: null }, "approve");
 }
+
+/** Who is looking: the signed-in member's studio, role and client. */
+export type Viewer = { id: string; studioId: string; role: "owner" | "engineer" | "client"; clientId: string | null };
+
+export type ReviewableRender = {
+  id: string;
+  kind: "preview" | "print";
+  region: { startS: number; endS: number } | null;
+  mixId: string;
+  mixVersion: number;
+  chainName: string;
+  chainRevisionId: string;
+  revision: number;
+  params: unknown;
+  integratedLufs: number | null;
+  finishedAt: Date;
+  sentForReview: boolean;
+  outputKey: string;
+  outputSampleRateHz: number | null;
+  tracesKey: string | null;
+};
+
+const finiteOrNull = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : null);
+
+/**
+ * A track's finished renders this viewer may hear, newest first: all of them
+ * for the studio's staff, only those sent for review for the client (work in
+ * progress stays in the studio).
+ */
+export async function listReviewableRenders(viewer: Viewer, trackId: string): Promise<ReviewableRender[]> {
+  const query = db("renders as rd")
+    .join("mixes as m", "m.id", "rd.mix_id")
+    .join("tracks as t", "t.id", "m.track_id")
+    .join("releases as r", "r.id", "t.release_id")
+    .join("chain_revisions as cr", "cr.id", "rd.chain_revision_id")
+    .join("chains as c", "c.id", "cr.chain_id")
+    .where({ "t.id": trackId, "rd.state": "done", "r.studio_id": viewer.studioId })
+    .orderBy([{ column: "rd.finished_at", order: "desc" }, { column: "rd.id" }])
+    .select(
+      "rd.id",
+      "rd.kind",
+      "rd.region_start_s",
+      "rd.region_end_s",
+      "rd.mix_id",
+      "m.version as mix_version",
+      "c.name as chain_name",
+      "cr.id as chain_revision_id",
+      "cr.revision",
+      "cr.params",
+      "rd.output_analysis",
+      "rd.finished_at",
+      "rd.output_key",
+      "rd.output_sample_rate_hz",
+      "rd.traces_key",
+      db.raw("EXISTS (SELECT 1 FROM review_requests rq WHERE rq.render_id = rd.id) AS sent_for_review"),
+    );
+  if (viewer.role === "client") {
+    query.where("r.client_id", viewer.clientId ?? "00000000-0000-0000-0000-000000000000").whereExists(db("review_requests as rq").whereRaw("rq.render_id = rd.id"));
+  }
+  const rows = await query;
+  return rows.map((row: Record<string, any>) => ({
+    id: row.id,
+    kind: row.kind,
+    region: row.region_start_s === null ? null : { startS: row.region_start_s, endS: row.region_end_s },
+    mixId: row.mix_id,
+    mixVersion: row.mix_version,
+    chainName: row.chain_name,
+    chainRevisionId: row.chain_revision_id,
+    revision: row.revision,
+    params: row.params,
+    integratedLufs: finiteOrNull(row.output_analysis?.integratedLufs),
+    finishedAt: row.finished_at,
+    sentForReview: row.sent_for_review,
+    outputKey: row.output_key,
+    outputSampleRateHz: row.output_sample_rate_hz,
+    tracesKey: row.traces_key,
+  }));
+}
+
+/** One render this viewer may hear (see listReviewableRenders), with its track; else undefined. */
+export async function getRenderForViewer(viewer: Viewer, renderId: string): Promise<(ReviewableRender & { trackId: string; releaseId: string }) | undefined> {
+  if (!/^[0-9a-f-]{36}$/i.test(renderId)) return undefined;
+  const row = await db("renders as rd")
+    .join("mixes as m", "m.id", "rd.mix_id")
+    .join("tracks as t", "t.id", "m.track_id")
+    .where("rd.id", renderId)
+    .first<{ track_id: string; release_id: string } | undefined>("m.track_id", "t.release_id");
+  if (!row) return undefined;
+  const render = (await listReviewableRenders(viewer, row.track_id)).find((r) => r.id === renderId);
+  return render && { ...render, trackId: row.track_id, releaseId: row.release_id };
+}

@@ -28,6 +28,8 @@ export type AbPlayerProps = {
   /** Called with the time of a comment marker, or of a click on the waveform. */
   onSeek?: (timeS: number) => void;
   onCommentClick?: (comment: WaveformComment) => void;
+  /** The position, at most four times a second while playing (for cursors elsewhere on the page). */
+  onPositionChange?: (timeS: number) => void;
   initialLoop?: Region | null;
 };
 
@@ -49,7 +51,7 @@ async function decode(ctx: AudioContext, url: string, signal: AbortSignal) {
 const isTyping = (target: EventTarget | null) =>
   target instanceof HTMLElement && (target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName));
 
-export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, initialLoop = null }: AbPlayerProps) {
+export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositionChange, initialLoop = null }: AbPlayerProps) {
   const [status, setStatus] = useState<"loading" | "ready" | "error">("loading");
   const [error, setError] = useState<string | null>(null);
   const loadedRef = useRef<Loaded | null>(null);
@@ -62,6 +64,17 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, initialL
   const [loop, setLoop] = useState<Region | null>(null);
   const [askLevel, setAskLevel] = useState(false);
   const [acked, ack] = useMonitoringAck();
+  const reported = useRef({ atMs: 0, timeS: -1 });
+  const onPositionRef = useRef(onPositionChange);
+  onPositionRef.current = onPositionChange;
+
+  useEffect(() => {
+    const now = performance.now();
+    const last = reported.current;
+    if (last.timeS === positionS || (playing && now - last.atMs < 250)) return;
+    reported.current = { atMs: now, timeS: positionS };
+    onPositionRef.current?.(positionS);
+  }, [positionS, playing]);
 
   // Fetch and decode both sources, then build the engine on one context.
   useEffect(() => {

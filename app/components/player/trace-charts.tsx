@@ -1,0 +1,70 @@
+// Gain-reduction traces of the two renders over the mix's time axis, one
+// chart per stage (and band), gain reduction as a filled area hanging down
+// from the zero line; short-term loudness as lines. Rows come from
+// alignTraces (app/lib/compare/traces.ts); the player's position is drawn as
+// a cursor on every chart.
+import { Area, CartesianGrid, ComposedChart, Line, ReferenceLine, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
+import type { AlignedTraces } from "../../lib/compare/traces.ts";
+import { formatClock } from "./format.ts";
+
+const A_COLOUR = "var(--color-accent)";
+const B_COLOUR = "var(--color-ink)";
+
+export function TraceCharts({ aligned, positionS, labels }: { aligned: AlignedTraces; positionS?: number | null; labels: { a: string; b: string } }) {
+  if (aligned.rows.length === 0 || aligned.panels.length === 0) {
+    return <p className="text-sm text-ink-soft">No traces were stored for these renders.</p>;
+  }
+  const domain: [number, number] = [aligned.startS, aligned.endS];
+  return (
+    <div className="space-y-4" data-testid="trace-charts">
+      <p className="text-xs text-ink-soft">
+        <span className="mr-3 inline-block h-2 w-4 align-middle" style={{ background: A_COLOUR }} /> A · {labels.a}
+        <span className="mr-3 ml-6 inline-block h-2 w-4 align-middle" style={{ background: B_COLOUR, opacity: 0.6 }} /> B · {labels.b}
+        <span className="ml-6">Grid {aligned.gridMs} ms</span>
+      </p>
+      {aligned.panels.map((panel) => {
+        const loudness = panel.kind === "shortTermLufs";
+        return (
+          <figure key={panel.id} className="card p-3" data-panel={panel.id}>
+            <figcaption className="mb-1 text-sm font-medium text-ink">{panel.title}</figcaption>
+            <div style={{ height: loudness ? 140 : 110 }}>
+              <ResponsiveContainer width="100%" height="100%">
+                <ComposedChart data={aligned.rows} margin={{ top: 4, right: 8, bottom: 0, left: 0 }}>
+                  <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />
+                  <XAxis dataKey="timeS" type="number" domain={domain} tickFormatter={(s: number) => formatClock(s)} tick={{ fontFamily: "var(--font-mono)", fontSize: 11 }} />
+                  <YAxis
+                    // Gain reduction hangs down from 0 dB: the axis runs downwards.
+                    reversed={!loudness}
+                    domain={loudness ? [-40, 0] : [0, "auto"]}
+                    allowDataOverflow={loudness}
+                    width={52}
+                    tickFormatter={(v: number) => (loudness ? `${v}` : v === 0 ? "0" : `−${v}`)}
+                    unit={loudness ? " LUFS" : " dB"}
+                    tick={{ fontFamily: "var(--font-mono)", fontSize: 11 }}
+                  />
+                  <Tooltip
+                    labelFormatter={(s) => formatClock(Number(s))}
+                    formatter={(value, name) => [typeof value === "number" ? `${loudness ? value.toFixed(1) : `−${value.toFixed(2)}`} ${loudness ? "LUFS" : "dB"}` : "—", String(name)]}
+                    contentStyle={{ fontFamily: "var(--font-mono)", fontSize: 12 }}
+                  />
+                  {loudness ? (
+                    <>
+                      {panel.a && <Line dataKey={panel.a} name="A" stroke={A_COLOUR} dot={false} isAnimationActive={false} strokeWidth={1.5} connectNulls={false} />}
+                      {panel.b && <Line dataKey={panel.b} name="B" stroke={B_COLOUR} dot={false} isAnimationActive={false} strokeWidth={1} strokeOpacity={0.7} connectNulls={false} />}
+                    </>
+                  ) : (
+                    <>
+                      {panel.a && <Area dataKey={panel.a} name="A" type="stepAfter" stroke={A_COLOUR} fill={A_COLOUR} fillOpacity={0.35} isAnimationActive={false} connectNulls={false} />}
+                      {panel.b && <Area dataKey={panel.b} name="B" type="stepAfter" stroke={B_COLOUR} fill={B_COLOUR} fillOpacity={0.15} isAnimationActive={false} connectNulls={false} />}
+                    </>
+                  )}
+                  {typeof positionS === "number" && <ReferenceLine x={positionS} stroke="var(--color-accent-deep)" />}
+                </ComposedChart>
+              </ResponsiveContainer>
+            </div>
+          </figure>
+        );
+      })}
+    </div>
+  );
+}
