@@ -170,7 +170,15 @@ async function renderPass(
   const fmt = reader.format;
   const sr = fmt.sampleRate, nch = fmt.channels;
   const gridFrames = Math.max(1, Math.round((GRID_MS / 1000) * sr));
-  const built = buildChain(chain, sr, nch, gridFrames, extraGainDb);
+  let built: ReturnType<typeof buildChain>;
+  try {
+    built = buildChain(chain, sr, nch, gridFrames, extraGainDb);
+  } catch (err) {
+    await reader.close();
+    // A chain can be valid JSON yet not fit this file (e.g. 23 kHz at 44.1 kHz).
+    if (err instanceof RangeError) throw new RenderInputError(`the chain does not fit this ${sr} Hz file: ${err.message}`);
+    throw err;
+  }
   const latency = built.latencyFrames;
   const bitDepth = chain.output.bitDepth;
   const quantizer = new Quantizer(nch, bitDepth, chain.output.dither);
