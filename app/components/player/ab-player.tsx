@@ -325,7 +325,7 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
         </span>
         {match?.matched && (
           <span className="text-xs text-ink-soft">
-            A is <span className="num">{formatDb(Math.abs(match.differenceDb), "LU")}</span> {match.differenceDb >= 0 ? "louder" : "quieter"} than B
+            A is <span className="num">{Math.abs(match.differenceDb).toFixed(1)} LU</span> {match.differenceDb >= 0 ? "louder" : "quieter"} than B
             {match.basis === "loop" ? " in the loop" : ""}
           </span>
         )}

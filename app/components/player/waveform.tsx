@@ -100,7 +100,7 @@ export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop,
   const localX = (e: ReactPointerEvent<HTMLCanvasElement>) => e.clientX - e.currentTarget.getBoundingClientRect().left;
 
   return (
-    <div className="relative select-none" ref={wrapRef} style={{ height: heightPx + 18 }}>
+    <div className="select-none" ref={wrapRef} style={{ position: "relative", height: heightPx + 18 }}>
       <canvas
         ref={canvasRef}
         className="block w-full cursor-crosshair rounded-sm"
@@ -128,8 +128,9 @@ export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop,
           <button
             key={cm.id}
             type="button"
-            className={`absolute top-0 h-4 w-3 -translate-x-1/2 rounded-sm border ${cm.resolved ? "border-rule bg-card" : "border-accent bg-accent"}`}
-            style={{ left: widthPx ? xOf(cm.timeS) : 0 }}
+            className={`rounded-sm border ${cm.resolved ? "border-rule bg-card" : "border-accent bg-accent"}`}
+            // Layout inline: the marker must sit over its time whatever stylesheet the page has.
+            style={{ position: "absolute", top: 0, width: 12, height: 16, left: (widthPx ? xOf(cm.timeS) : 0) - 6, padding: 0 }}
             title={`${formatClock(cm.timeS)}${cm.body ? ` — ${cm.body}` : ""}`}
             aria-label={`Comment at ${formatClock(cm.timeS)}${cm.resolved ? " (resolved)" : ""}`}
             data-comment-marker={cm.id}
