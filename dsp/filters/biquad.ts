@@ -58,10 +58,11 @@ export class Biquad {
       const y = b0 * x + s1;
       s1 = b1 * x - a1 * y + s2;
       s2 = b2 * x - a2 * y;
-      // Both at once: flushing one alone can excite a limit cycle.
-      if (s1 < FLUSH_BELOW && s1 > -FLUSH_BELOW && s2 < FLUSH_BELOW && s2 > -FLUSH_BELOW) {
-        s1 = 0;
-        s2 = 0;
+      // Both at once: flushing one alone can excite a limit cycle. (This form of
+      // the test, and `*= 0` keeping the doubles unboxed, is what V8 runs fastest.)
+      if (Math.abs(s1) + Math.abs(s2) < FLUSH_BELOW) {
+        s1 *= 0;
+        s2 *= 0;
       }
       buf[i] = y;
     }

@@ -62,8 +62,22 @@ describe("true peak (analytic)", () => {
       expect(phases.length).toBe(L - 1);
       for (const c of phases) expect(c.reduce((s, v) => s + v, 0)).toBeCloseTo(1, 12);
     }
+    // The 2× phase is a half-sample delay: symmetric taps (the 2× fast path relies on it).
+    const [half] = designTruePeakPhases(2);
+    for (let k = 0; k < half.length; k++) expect(half[k]).toBe(half[half.length - 1 - k]);
     const x = whiteNoise(10000, 4);
     expect(tpDb([x], 48000)).toBeGreaterThanOrEqual(samplePeakDb(x));
+  });
+
+  it("at 96 kHz (2×) process and processPerFrame agree", () => {
+    const x = [whiteNoise(30000, 23, 0.7), whiteNoise(30000, 24, 0.7)];
+    const a = new TruePeakDetector(96000, 2, 30000);
+    a.process(x, 30000);
+    const b = new TruePeakDetector(96000, 2, 30000);
+    b.processPerFrame(x, 30000, new Float64Array(30000));
+    expect(a.factor).toBe(2);
+    expect(a.maxAbs).toBeCloseTo(b.maxAbs, 12);
+    expect(a.maxAbs).toBeGreaterThan(0.7);
   });
 
   it("block size never changes maxAbs; processPerFrame agrees with process and carries state", () => {

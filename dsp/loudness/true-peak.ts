@@ -117,7 +117,10 @@ export class TruePeakDetector {
         if (local * bound <= max) continue; // no interpolated point here can exceed the maximum
         for (let p = 0; p < this.phases.length; p++) {
           const c = this.phases[p];
-          const v = c.length === 12 ? interpolatedMax12(h, c, start, end) : interpolatedMax(h, c, start, end, HISTORY);
+          const v =
+            c.length === 12 ? interpolatedMax12(h, c, start, end)
+            : c.length === 24 ? interpolatedMaxSymmetric24(h, c, start, end)
+            : interpolatedMax(h, c, start, end, HISTORY);
           if (v > max) max = v;
         }
       }
@@ -134,26 +137,20 @@ export class TruePeakDetector {
   processPerFrame(channels: Float64Array[], frames: number, outPeak: Float64Array): void {
     this.loadBlock(channels, frames);
     outPeak.fill(0, 0, frames);
-    const centre = this.latencyFrames;
     const HISTORY = this.history;
-    const T = this.taps;
+    const centre = this.latencyFrames;
     for (let ch = 0; ch < this.hist.length; ch++) {
       const h = this.hist[ch];
-      for (let i = 0; i < frames; i++) {
-        // Phase-0 point of frame i − latency is x[i − centre], at index i + HISTORY − centre.
-        const s = h[i + HISTORY - centre];
-        let m = s < 0 ? -s : s;
-        for (let p = 0; p < this.phases.length; p++) {
-          const c = this.phases[p];
-          let acc = 0;
-          for (let k = 0; k < T; k++) acc += c[k] * h[i + HISTORY - k];
-          const a = acc < 0 ? -acc : acc;
-          if (a > m) m = a;
-        }
-        if (m > outPeak[i]) outPeak[i] = m;
+      // Phase 0 of frame i − latency is the sample x[i − latency], at index i + history − latency.
+      for (let i = 0, j = HISTORY - centre; i < frames; i++, j++) {
+        const a = h[j] < 0 ? -h[j] : h[j];
+        if (a > outPeak[i]) outPeak[i] = a;
       }
+      for (let p = 0; p < this.phases.length; p++) phaseAbsMax(h, this.phases[p], frames, HISTORY, outPeak);
     }
-    for (let i = 0; i < frames; i++) if (outPeak[i] > this.max) this.max = outPeak[i];
+    let max = this.max;
+    for (let i = 0; i < frames; i++) if (outPeak[i] > max) max = outPeak[i];
+    this.max = max;
     this.keepTail(frames);
   }
 
@@ -192,4 +189,46 @@ function interpolatedMax12(h: Float64Array, c: Float64Array, start: number, end:
     if (a > m) m = a;
   }
   return m;
+}
+
+/** The 2× case: its one phase is a half-sample delay with symmetric taps (c[k] = c[23 − k]), so 12 multiplies. */
+function interpolatedMaxSymmetric24(h: Float64Array, c: Float64Array, start: number, end: number): number {
+  const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5];
+  const c6 = c[6], c7 = c[7], c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11];
+  let m = 0;
+  for (let n = start; n < end; n++) {
+    // x[n − k] is at h[n + 23 − k]
+    const y =
+      c0 * (h[n + 23] + h[n]) + c1 * (h[n + 22] + h[n + 1]) + c2 * (h[n + 21] + h[n + 2]) +
+      c3 * (h[n + 20] + h[n + 3]) + c4 * (h[n + 19] + h[n + 4]) + c5 * (h[n + 18] + h[n + 5]) +
+      c6 * (h[n + 17] + h[n + 6]) + c7 * (h[n + 16] + h[n + 7]) + c8 * (h[n + 15] + h[n + 8]) +
+      c9 * (h[n + 14] + h[n + 9]) + c10 * (h[n + 13] + h[n + 10]) + c11 * (h[n + 12] + h[n + 11]);
+    const a = y < 0 ? -y : y;
+    if (a > m) m = a;
+  }
+  return m;
+}
+
+/** out[n] = max(out[n], |y[n]|) for one phase over frames [0, frames). */
+function phaseAbsMax(h: Float64Array, c: Float64Array, frames: number, history: number, out: Float64Array): void {
+  if (c.length === 12) {
+    const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5];
+    const c6 = c[6], c7 = c[7], c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11];
+    for (let n = 0; n < frames; n++) {
+      const y =
+        c0 * h[n + 11] + c1 * h[n + 10] + c2 * h[n + 9] + c3 * h[n + 8] + c4 * h[n + 7] + c5 * h[n + 6] +
+        c6 * h[n + 5] + c7 * h[n + 4] + c8 * h[n + 3] + c9 * h[n + 2] + c10 * h[n + 1] + c11 * h[n];
+      const a = y < 0 ? -y : y;
+      if (a > out[n]) out[n] = a;
+    }
+    return;
+  }
+  const T = c.length;
+  for (let n = 0; n < frames; n++) {
+    const b = n + history;
+    let y = 0;
+    for (let k = 0; k < T; k++) y += c[k] * h[b - k];
+    const a = y < 0 ? -y : y;
+    if (a > out[n]) out[n] = a;
+  }
 }
