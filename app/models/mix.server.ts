@@ -2,8 +2,16 @@
 // lock on the track so two uploads at once get v3 and v4, never two v3s);
 // nothing here overwrites a stored file.
 import { randomUUID } from "node:crypto";
+import { createWriteStream } from "node:fs";
+import { mkdtemp, rm, stat } from "node:fs/promises";
+import os from "node:os";
+import path from "node:path";
+import { Transform, type Readable } from "node:stream";
+import { pipeline } from "node:stream/promises";
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
+import { storage } from "../lib/storage/storage.server.ts";
+import { probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
 import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
 import { toJsonValue } from "../jobs/json.ts";
 
@@ -178,4 +186,87 @@ export async function markAnalysisFailed(id: string, message: string): Promise<v
 /** Back to "pending" while a retry waits (the worker stopped or the attempt failed). */
 export async function markAnalysisRetrying(id: string, message: string): Promise<void> {
   await db("mixes").where({ id, analysis_state: "running" }).update({ analysis_state: "pending", analysis_error: message });
+}
+
+/** 2 GB (the issue's default); UPLOAD_MAX_BYTES overrides. */
+export const DEFAULT_UPLOAD_MAX_BYTES = 2 * 1000 ** 3;
+
+export function uploadMaxBytes(): number {
+  const configured = Number(process.env.UPLOAD_MAX_BYTES);
+  return Number.isFinite(configured) && configured > 0 ? configured : DEFAULT_UPLOAD_MAX_BYTES;
+}
+
+/** An upload refused for its content; the route answers 422 with `message`. */
+export class MixUploadError extends Error {
+  constructor(readonly code: WavFormatErrorCode | "too-large" | "empty", message: string) {
+    super(message);
+    this.name = "MixUploadError";
+  }
+}
+
+const formatSize = (bytes: number) =>
+  bytes >= 1e9 ? `${(bytes / 1e9).toFixed(1)} GB` : bytes >= 1e6 ? `${(bytes / 1e6).toFixed(0)} MB` : `${(bytes / 1e3).toFixed(0)} kB`;
+
+/**
+ * An uploaded file, as it streams in, becomes the track's next mix version:
+ * spooled to a temporary file (never whole in memory, and stopped at
+ * `maxBytes`), recognised by its WAV header (not its name), stored, given its
+ * row, and its analysis queued. A refused file throws MixUploadError and
+ * leaves no row and nothing in storage.
+ */
+export async function addUploadedMix(input: {
+  trackId: string;
+  originalName: string;
+  body: Readable | AsyncIterable<Uint8Array>;
+  uploadedBy?: string | null;
+  maxBytes?: number;
+}): Promise<Mix> {
+  const maxBytes = input.maxBytes ?? uploadMaxBytes();
+  const folder = await mkdtemp(path.join(process.env.WORKER_TMP_DIR ?? os.tmpdir(), "tidemark-upload-"));
+  const spooled = path.join(folder, "upload.wav");
+  try {
+    let received = 0;
+    const limit = new Transform({
+      transform(chunk: Buffer, _encoding, done) {
+        received += chunk.length;
+        if (received > maxBytes) done(new MixUploadError("too-large", `the file is larger than the limit of ${formatSize(maxBytes)}`));
+        else done(null, chunk);
+      },
+    });
+    await pipeline(input.body, limit, createWriteStream(spooled));
+    const sizeBytes = (await stat(spooled)).size;
+    if (sizeBytes === 0) throw new MixUploadError("empty", "the file is empty");
+    let format;
+    try {
+      format = await probeWav(spooled);
+    } catch (error) {
+      if (error instanceof WavFormatError) throw new MixUploadError(error.code, error.message);
+      throw error;
+    }
+    const { mixId, storageKey } = newMixKey(input.trackId);
+    await storage().put(storageKey, { filePath: spooled }, { contentType: "audio/wav" });
+    try {
+      return await addMixVersion({
+        id: mixId,
+        trackId: input.trackId,
+        originalName: input.originalName.slice(0, 255) || "mix.wav",
+        storageKey,
+        sizeBytes,
+        format: {
+          sampleRateHz: format.sampleRate,
+          channels: format.channels,
+          bitDepth: format.bitDepth as MixFormat["bitDepth"],
+          sampleFormat: format.sampleFormat,
+          frames: format.frames,
+        },
+        uploadedBy: input.uploadedBy ?? null,
+      });
+    } catch (error) {
+      // No row, so no file either.
+      await storage().delete(storageKey);
+      throw error;
+    }
+  } finally {
+    await rm(folder, { recursive: true, force: true });
+  }
 }
