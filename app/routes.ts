@@ -16,8 +16,12 @@ export default [
       route(":releaseId/tracks/new", "routes/track-new.tsx"),
       route(":releaseId/tracks/:trackId", "routes/track.tsx"),
       route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),
+      route(":releaseId/tracks/:trackId/chains/new", "routes/chain-new.tsx"),
     ]),
     route("team", "routes/team.tsx"),
     route("settings", "routes/settings.tsx"),
+    route("settings/tokens", "routes/settings-tokens.tsx"),
+    route("templates", "routes/templates.tsx"),
+    route("chains/:chainId", "routes/chain.tsx"),
   ]),
 ] satisfies RouteConfig;

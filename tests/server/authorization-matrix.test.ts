@@ -19,6 +19,11 @@ import * as track from "../../app/routes/track.tsx";
 import * as trackEdit from "../../app/routes/track-edit.tsx";
 import * as team from "../../app/routes/team.tsx";
 import * as settings from "../../app/routes/settings.tsx";
+import * as chainNew from "../../app/routes/chain-new.tsx";
+import * as chainPage from "../../app/routes/chain.tsx";
+import * as templates from "../../app/routes/templates.tsx";
+import * as settingsTokens from "../../app/routes/settings-tokens.tsx";
+import { createChain, createRevision } from "../../app/models/chain.server.ts";
 
 type Expect = Record<Persona, Outcome>;
 const everyone = (outcome: Outcome): Expect => Object.fromEntries(PERSONAS.map((p) => [p, outcome])) as Expect;
@@ -36,6 +41,7 @@ type Case = { route: string; file: string; kind: "loader" | "action"; handler: H
 
 let fixture: Fixture;
 let invitationToken: string;
+let trackChainId: string;
 
 const rel = (f: Fixture) => ({ releaseId: f.releaseId });
 const trk = (f: Fixture) => ({ releaseId: f.releaseId, trackId: f.trackId });
@@ -67,10 +73,21 @@ const cases: Case[] = [
   { route: "/settings", file: "routes/settings.tsx", kind: "loader", handler: settings.loader as Handler, path: () => "/settings", expected: signedIn },
   { route: "/settings", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "profile", name: "" }, expected: signedIn },
   { route: "/settings (studio)", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "studio", name: "" }, expected: ownerOnly },
+  { route: "/releases/:releaseId/tracks/:trackId/chains/new", file: "routes/chain-new.tsx", kind: "loader", handler: chainNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/chains/new`, params: trk, expected: releaseStaff },
+  { route: "/releases/:releaseId/tracks/:trackId/chains/new", file: "routes/chain-new.tsx", kind: "action", handler: chainNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/chains/new`, params: trk, form: { name: "" }, expected: releaseStaff },
+  { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "loader", handler: chainPage.loader as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), expected: releaseStaff },
+  { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "action", handler: chainPage.action as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), form: { params: "{" }, expected: releaseStaff },
+  { route: "/templates", file: "routes/templates.tsx", kind: "loader", handler: templates.loader as Handler, path: () => "/templates", expected: staff },
+  { route: "/templates", file: "routes/templates.tsx", kind: "action", handler: templates.action as Handler, path: () => "/templates", form: { name: "" }, expected: staff },
+  { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "loader", handler: settingsTokens.loader as Handler, path: () => "/settings/tokens", expected: signedIn },
+  { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "action", handler: settingsTokens.action as Handler, path: () => "/settings/tokens", form: { intent: "create", name: "" }, expected: signedIn },
 ];
 
 beforeAll(async () => {
   fixture = await createFixture();
+  const trackChain = await createChain({ studioId: fixture.studioId, trackId: fixture.trackId, name: "Matrix chain" });
+  await createRevision(trackChain.id, { stages: [] }, null);
+  trackChainId = trackChain.id;
   ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
 });
 afterAll(async () => destroyFixture(fixture));
