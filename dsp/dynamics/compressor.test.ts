@@ -118,6 +118,44 @@ describe("auto release (our design targets, docs/auto-release.md)", () => {
   });
 });
 
+describe("auto release on bus compression (our design target: no pumping)", () => {
+  it("about 4 dB of reduction on a beat with a 30 ms attack: the gain swings far less than with a fixed 40 ms release", () => {
+    // 1 kHz carrier, level dipping 12 dB between hits twice a second.
+    const n = 8 * FS;
+    const x = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const beatPhase = ((i / FS) * 2) % 1;
+      x[i] = 10 ** (-10 / 20) * Math.sin((2 * Math.PI * 1000 * i) / FS) * (beatPhase < 0.15 ? 1 : 0.25);
+    }
+    const swing = (releaseMs: number | "auto", thresholdDb: number): { mean: number; range: number } => {
+      const comp = new Compressor(FS, 1, settings({ thresholdDb, ratio: 3, kneeDb: 6, attackMs: 30, rmsWindowMs: 20, releaseMs }), 1024);
+      const tail = grTrace(comp, x).subarray(4 * FS);
+      let lo = Infinity, hi = -Infinity, sum = 0;
+      for (const v of tail) {
+        lo = Math.min(lo, v);
+        hi = Math.max(hi, v);
+        sum += v;
+      }
+      return { mean: sum / tail.length, range: hi - lo };
+    };
+    // Each mode gets the threshold that gives a mean reduction of 4 dB (bisection).
+    const at4Db = (releaseMs: number | "auto"): { mean: number; range: number } => {
+      let lo = -60, hi = 0;
+      for (let k = 0; k < 14; k++) {
+        const mid = (lo + hi) / 2;
+        if (swing(releaseMs, mid).mean > 4) lo = mid;
+        else hi = mid;
+      }
+      return swing(releaseMs, (lo + hi) / 2);
+    };
+    const auto = at4Db("auto");
+    const fixed = at4Db(40);
+    expect(Math.abs(auto.mean - 4)).toBeLessThan(0.05);
+    expect(Math.abs(fixed.mean - 4)).toBeLessThan(0.05);
+    expect(auto.range).toBeLessThan(fixed.range / 2);
+  });
+});
+
 describe("compressor audio path", () => {
   it("applies the linked gain and makeup to both channels", () => {
     const comp = new Compressor(FS, 2, settings({ thresholdDb: -60, ratio: 1, makeupDb: 6 }), 256);

@@ -14,8 +14,8 @@
 import { timeConstantCoeff } from "../units.ts";
 
 export const AUTO_FAST_RELEASE_MS = 40;
-export const AUTO_SLOW_ATTACK_MS = 600;
-export const AUTO_SLOW_RELEASE_MS = 1200;
+export const AUTO_SLOW_ATTACK_MS = 300;
+export const AUTO_SLOW_RELEASE_MS = 2500;
 
 // Reductions below this (dB) are flushed to 0: inaudible, and it lets the
 // compressor skip the gain computation once fully released.
