@@ -1,0 +1,149 @@
+// The A/B player in a real browser (Debian's chromium through playwright-core):
+// two synthesized WAV files 6 dB apart are fetched, decoded and played on the
+// Web Audio API. Checks the monitoring notice before the first playback, the
+// level-matching gain, instant switching by key at the same position, the
+// loop chosen by dragging, and seeking from a comment marker. The page is
+// served by Vite's dev server from a temporary folder (no app stylesheet, so
+// the checks rely on no styling).
+import { existsSync } from "node:fs";
+import { mkdtemp, rm, symlink, unlink, writeFile } from "node:fs/promises";
+import { tmpdir } from "node:os";
+import { join, resolve } from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Browser, Page } from "playwright-core";
+
+const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
+const SR = 48_000;
+const SECONDS = 6;
+
+/** 16-bit stereo PCM WAV of a 1 kHz sine at `dbfs`. */
+function sineWav(dbfs: number): Buffer {
+  const frames = SR * SECONDS;
+  const data = Buffer.alloc(frames * 4);
+  const amp = Math.round(32767 * Math.pow(10, dbfs / 20));
+  for (let i = 0; i < frames; i++) {
+    const v = Math.round(amp * Math.sin((2 * Math.PI * 1000 * i) / SR));
+    data.writeInt16LE(v, i * 4);
+    data.writeInt16LE(v, i * 4 + 2);
+  }
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0);
+  header.writeUInt32LE(36 + data.length, 4);
+  header.write("WAVEfmt ", 8);
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(1, 20);
+  header.writeUInt16LE(2, 22);
+  header.writeUInt32LE(SR, 24);
+  header.writeUInt32LE(SR * 4, 28);
+  header.writeUInt16LE(4, 32);
+  header.writeUInt16LE(16, 34);
+  header.write("data", 36);
+  header.writeUInt32LE(data.length, 40);
+  return Buffer.concat([header, data]);
+}
+
+let dir: string;
+let server: import("vite").ViteDevServer | undefined;
+let browser: Browser | undefined;
+let page: Page;
+
+const attrs = () => page.getByTestId("ab-player").evaluate((el) => ({ ...(el as HTMLElement).dataset }));
+
+describe.skipIf(!existsSync(CHROMIUM))("A/B player in chromium", () => {
+  beforeAll(async () => {
+    dir = await mkdtemp(join(tmpdir(), "tidemark-player-"));
+    const player = resolve("app/components/player/ab-player.tsx");
+    // React and the rest resolve from the project's packages.
+    await symlink(resolve("node_modules"), join(dir, "node_modules"), "dir");
+    await writeFile(join(dir, "a.wav"), sineWav(-14));
+    await writeFile(join(dir, "b.wav"), sineWav(-20));
+    await writeFile(join(dir, "index.html"), `<!doctype html><html><head><meta charset="utf-8"></head><body><div id="root" style="width:900px"></div><script type="module" src="/main.tsx"></script></body></html>`);
+    await writeFile(
+      join(dir, "main.tsx"),
+      `import { createRoot } from "react-dom/client";
+import { AbPlayer } from ${JSON.stringify(player)};
+createRoot(document.getElementById("root")!).render(
+  <AbPlayer a={{ url: "/a.wav", label: "louder" }} b={{ url: "/b.wav", label: "quieter" }} comments={[{ id: "c1", timeS: 2.5, body: "here" }]} />,
+);`,
+    );
+    const { createServer } = await import("vite");
+    server = await createServer({
+      configFile: false,
+      root: dir,
+      logLevel: "error",
+      server: { host: "127.0.0.1", port: 0, fs: { allow: [dir, process.cwd()] } },
+      resolve: { dedupe: ["react", "react-dom"] },
+      optimizeDeps: { entries: [join(dir, "main.tsx")] },
+    });
+    await server.listen();
+    const { chromium } = await import("playwright-core");
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: ["--no-sandbox", "--disable-gpu", "--autoplay-policy=no-user-gesture-required"] });
+    page = await browser.newPage();
+    await page.goto(server.resolvedUrls!.local[0]);
+    await page.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-state") === "ready", null, { timeout: 60_000 });
+  });
+
+  afterAll(async () => {
+    await browser?.close();
+    await server?.close();
+    if (dir) {
+      // The link first, by itself, so removing the folder can never reach the project's packages.
+      await unlink(join(dir, "node_modules")).catch(() => {});
+      await rm(dir, { recursive: true, force: true });
+    }
+  });
+
+  it("level-matches by default: the louder A is turned down by the measured 6 dB", async () => {
+    await page.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-match-gain-db") !== "0.00");
+    const gainDb = Number((await attrs()).matchGainDb);
+    // 1 kHz sines 6 dB apart (EBU Tech 3341-style signals): the difference of their loudness is 6 dB.
+    expect(gainDb).toBeCloseTo(-6, 1);
+    expect(await page.getByTestId("monitoring-reminder").isVisible()).toBe(true);
+  });
+
+  it("asks for a safe monitoring level before the first playback, then plays", async () => {
+    await page.getByRole("button", { name: "Play" }).click();
+    await expect.poll(() => page.getByTestId("monitoring-notice").count()).toBe(1);
+    expect((await attrs()).playing).toBe("false");
+    await page.getByRole("button", { name: /level is safe/ }).click();
+    await expect.poll(async () => Number((await attrs()).positionS), { timeout: 10_000 }).toBeGreaterThan(0.3);
+    expect((await attrs()).playing).toBe("true");
+  });
+
+  it("switches by key at the same position, with B's own gain", async () => {
+    const before = Number((await attrs()).positionS);
+    await page.keyboard.press("b");
+    const after = await attrs();
+    expect(after.activeSource).toBe("B");
+    expect(after.matchGainDb).toBe("0.00");
+    // The clock kept running through the switch (no restart from 0).
+    expect(Number(after.positionS)).toBeGreaterThanOrEqual(before);
+    await page.keyboard.press("s");
+    expect((await attrs()).activeSource).toBe("A");
+    await page.getByLabel("Level matching").uncheck();
+    expect(await attrs()).toMatchObject({ matching: "off", matchGainDb: "0.00" });
+    await page.getByLabel("Level matching").check();
+  });
+
+  it("loops over a region dragged on the waveform, and seeks from a comment marker", async () => {
+    const box = (await page.locator("canvas").boundingBox())!;
+    await page.mouse.move(box.x + box.width * 0.25, box.y + box.height / 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width * 0.5, box.y + box.height / 2, { steps: 4 });
+    await page.mouse.up();
+    expect(await page.getByTestId("loop-region").textContent()).toBe("Loop 0:01.5 – 0:03.0");
+    // Longer than the loop: the position must have wrapped back into it.
+    await page.waitForTimeout(1800);
+    const inLoop = Number((await attrs()).positionS);
+    expect(inLoop).toBeGreaterThanOrEqual(1.5);
+    expect(inLoop).toBeLessThan(3.01);
+    await page.getByRole("button", { name: "Pause" }).click();
+    await page.getByRole("button", { name: "Stop looping" }).click();
+    await page.locator("[data-comment-marker=c1]").click();
+    expect((await attrs()).positionS).toBe("2.50");
+    // The notice is not shown again in the same session.
+    await page.getByRole("button", { name: "Play" }).click();
+    expect(await page.getByTestId("monitoring-notice").count()).toBe(0);
+    await page.getByRole("button", { name: "Pause" }).click();
+  });
+});
