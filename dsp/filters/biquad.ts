@@ -9,11 +9,8 @@ import type { BiquadCoeffs } from "./biquad-design.ts";
 const FLUSH_BELOW = 1e-30;
 
 export class Biquad {
-  private b0 = 1;
-  private b1 = 0;
-  private b2 = 0;
-  private a1 = 0;
-  private a2 = 0;
+  // b0 b1 b2 a1 a2 in a typed array: V8 keeps them as raw doubles.
+  private readonly c = new Float64Array(5);
   private readonly s1: Float64Array;
   private readonly s2: Float64Array;
 
@@ -30,11 +27,11 @@ export class Biquad {
 
   /** Changes the response; keeps the state (no click from clearing it). */
   setCoeffs(c: BiquadCoeffs): void {
-    this.b0 = c.b0;
-    this.b1 = c.b1;
-    this.b2 = c.b2;
-    this.a1 = c.a1;
-    this.a2 = c.a2;
+    this.c[0] = c.b0;
+    this.c[1] = c.b1;
+    this.c[2] = c.b2;
+    this.c[3] = c.a1;
+    this.c[4] = c.a2;
   }
 
   reset(): void {
@@ -50,7 +47,8 @@ export class Biquad {
 
   /** Filters one channel's buffer in place with that channel's state. */
   processChannel(buf: Float64Array | Float32Array, channel: number, frames: number): void {
-    const { b0, b1, b2, a1, a2 } = this;
+    const c = this.c;
+    const b0 = c[0], b1 = c[1], b2 = c[2], a1 = c[3], a2 = c[4];
     let s1 = this.s1[channel];
     let s2 = this.s2[channel];
     for (let i = 0; i < frames; i++) {
