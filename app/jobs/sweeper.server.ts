@@ -3,7 +3,7 @@
 // fails it; nobody is left to update the row then. The sweeper, run by every
 // worker process every few seconds, does it:
 //   job failed, row unfinished          → row failed, with a message to read
-//   job waiting for a retry, row running → row queued again
+//   job waiting for a retry, row running → row queued (a mix: pending) again
 import { db } from "../lib/db.server.ts";
 import type { QueueSettings } from "./queue.server.ts";
 
@@ -41,6 +41,12 @@ export async function sweep(settings: QueueSettings): Promise<SweepResult> {
       FROM pgboss.job j
       WHERE j.name = ? AND j.id = m.analysis_job_id AND j.state = 'failed' AND m.analysis_state IN ('pending', 'running')
       RETURNING m.id`,
+    [settings.analyzeQueue],
+  );
+  await db.raw(
+    `UPDATE mixes m SET analysis_state = 'pending', analysis_error = 'The worker measuring it stopped; the analysis waits for another try.'
+      FROM pgboss.job j
+      WHERE j.name = ? AND j.id = m.analysis_job_id AND j.state = 'retry' AND m.analysis_state = 'running'`,
     [settings.analyzeQueue],
   );
   return { rendersFailed: failed.rows.length, rendersRequeued: requeued.rows.length, mixesFailed: mixes.rows.length };

@@ -3,13 +3,18 @@
 // optionally to a loudness target. The row is the truth about its state;
 // the queue job only says which worker may work on it.
 import { db } from "../lib/db.server.ts";
+import { storage } from "../lib/storage/storage.server.ts";
 import { cancelJob, enqueueRender, queueSettings } from "../jobs/queue.server.ts";
+import { PREVIEW_WINDOW_S, type RenderResult } from "../../dsp/render/render-file.ts";
 
 export type RenderState = "queued" | "running" | "done" | "failed" | "cancelled";
 export type RenderKind = "preview" | "print";
 
 /** The length of a preview when no region is chosen (the loudest stretch of the mix). */
-export const PREVIEW_SECONDS = 30;
+export const PREVIEW_SECONDS = PREVIEW_WINDOW_S;
+
+/** The gain-reduction traces of a finished render, as the renderer gave them (JSON from storage). */
+export type RenderTraces = RenderResult["traces"];
 
 export type Render = {
   id: string;
@@ -173,6 +178,14 @@ export async function listRendersForTrack(trackId: string): Promise<(Render & { 
     .orderBy("r.queued_at", "desc")
     .select<(RenderRow & { mix_version: number })[]>("r.*", "m.version as mix_version");
   return rows.map((row) => ({ ...renderFromRow(row), mixVersion: row.mix_version }));
+}
+
+/** A finished render's traces, read from storage; undefined before it is done. */
+export async function getRenderTraces(render: Pick<Render, "tracesKey">): Promise<RenderTraces | undefined> {
+  if (!render.tracesKey) return undefined;
+  const chunks: Buffer[] = [];
+  for await (const chunk of await storage().get(render.tracesKey)) chunks.push(Buffer.from(chunk));
+  return JSON.parse(Buffer.concat(chunks).toString("utf8")) as RenderTraces;
 }
 
 /**

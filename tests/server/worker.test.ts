@@ -10,7 +10,7 @@ import { createMix, getMix, newMixKey, type Mix } from "../../app/models/mix.ser
 import { analyzeFile } from "../../dsp/analysis.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { createChain, createRevision, type ChainRevision } from "../../app/models/chain.server.ts";
-import { cancelRender, createRender, getRender, getRenderStatus } from "../../app/models/render.server.ts";
+import { cancelRender, createRender, getRender, getRenderStatus, getRenderTraces } from "../../app/models/render.server.ts";
 import { stopQueue } from "../../app/jobs/queue.server.ts";
 import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "./worker-harness.ts";
 
@@ -34,12 +34,6 @@ beforeAll(async () => {
   revision = await createRevision(chain.id, gentleChain(), fixture.userId);
   worker = await startWorker({ ...queueEnv, WORKER_SWEEP_SECONDS: "1", QUEUE_MAINTENANCE_SECONDS: "1" });
 });
-
-async function readAll(key: string): Promise<string> {
-  const chunks: Buffer[] = [];
-  for await (const chunk of await storage().get(key)) chunks.push(Buffer.from(chunk));
-  return Buffer.concat(chunks).toString("utf8");
-}
 
 afterAll(async () => {
   await worker?.stop();
@@ -91,7 +85,7 @@ describe("worker", () => {
     } finally {
       await local.release();
     }
-    const traces = JSON.parse(await readAll(done.tracesKey!));
+    const traces = (await getRenderTraces(done))!;
     expect(traces.gridMs).toBe(10);
     // One gain-reduction trace list per stage that reduces gain: multiband (4 bands), compressor, limiter.
     expect(traces.stages.length).toBeGreaterThanOrEqual(3);
