@@ -217,6 +217,7 @@ class StreamingWavReader implements WavReader {
   async read(channels: Float64Array[], maxFrames: number): Promise<number> {
     const nch = this.format.channels;
     if (channels.length < nch) throw new RangeError(`need ${nch} channel buffers, got ${channels.length}`);
+    for (let ch = 0; ch < nch; ch++) maxFrames = Math.min(maxFrames, channels[ch].length);
     let done = 0;
     while (done < maxFrames && this.framesLeft > 0) {
       const want = Math.min(maxFrames - done, this.framesLeft, this.blockFrames);

@@ -40,6 +40,27 @@ describe("K-weighting (ITU-R BS.1770-4)", () => {
     }
   });
 
+  it("matches the analogue prototype (shelf × high-pass, with the table's 1.005 high-pass gain) within 0.02 dB to 2 kHz", () => {
+    // H(s) = (Vh s² + Vb (ω0/Q) s + ω0²) / (s² + (ω0/Q) s + ω0²) for the shelf; s²/(s² + (ω0/Q) s + ω0²) for the high-pass.
+    const shelfDb = (f: number) => {
+      const f0 = 1681.974450955533, q = 0.7071752369554196, vh = 10 ** (3.999843853973347 / 20), vb = vh ** 0.4996667741545416;
+      const r = f / f0;
+      const numRe = 1 - vh * r * r, numIm = (vb * r) / q, denRe = 1 - r * r, denIm = r / q;
+      return 10 * Math.log10((numRe ** 2 + numIm ** 2) / (denRe ** 2 + denIm ** 2));
+    };
+    const hpDb = (f: number) => {
+      const f0 = 38.13547087602444, q = 0.5003270373238773, r = f / f0;
+      return 10 * Math.log10(r ** 4 / ((1 - r * r) ** 2 + (r / q) ** 2));
+    };
+    const k48 = Math.tan((Math.PI * 38.13547087602444) / 48000);
+    const tableGainDb = 20 * Math.log10(1 + k48 / 0.5003270373238773 + k48 * k48);
+    for (const fs of [44100, 48000, 96000]) {
+      for (const f of [25, 50, 100, 200, 500, 997, 1500, 2000]) {
+        expect(Math.abs(kDb(fs, f) - (shelfDb(f) + hpDb(f) + tableGainDb))).toBeLessThan(0.02);
+      }
+    }
+  });
+
   it("44.1, 88.2, 96 and 192 kHz match 48 kHz within 0.01 dB up to 10 kHz", () => {
     for (const fs of [44100, 88200, 96000, 192000]) {
       for (const f of [20, 50, 100, 500, 997, 2000, 5000, 8000, 10000]) {
