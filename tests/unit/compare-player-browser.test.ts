@@ -53,6 +53,8 @@ describe.skipIf(!existsSync(CHROMIUM))("A/B player in chromium", () => {
   beforeAll(async () => {
     dir = await mkdtemp(join(tmpdir(), "tidemark-player-"));
     const player = resolve("app/components/player/ab-player.tsx");
+    const charts = resolve("app/components/player/trace-charts.tsx");
+    const traces = resolve("app/lib/compare/traces.ts");
     // React and the rest resolve from the project's packages.
     await symlink(resolve("node_modules"), join(dir, "node_modules"), "dir");
     await writeFile(join(dir, "a.wav"), sineWav(-14));
@@ -62,8 +64,18 @@ describe.skipIf(!existsSync(CHROMIUM))("A/B player in chromium", () => {
       join(dir, "main.tsx"),
       `import { createRoot } from "react-dom/client";
 import { AbPlayer } from ${JSON.stringify(player)};
+import { TraceCharts } from ${JSON.stringify(charts)};
+import { alignTraces } from ${JSON.stringify(traces)};
+const gr = (peakAt: number, n: number) => Array.from({ length: n }, (_, j) => (j === peakAt ? 5 : 0.5));
+const aligned = alignTraces(
+  { traces: { gridMs: 10, stages: [{ index: 2, type: "limit", names: ["gr"], gainReductionDb: [gr(250, 600)] }], shortTermLufs: Array(600).fill(-14) }, offsetS: 0 },
+  { traces: { gridMs: 10, stages: [{ index: 2, type: "limit", names: ["gr"], gainReductionDb: [gr(50, 200)] }] }, offsetS: 2 },
+);
 createRoot(document.getElementById("root")!).render(
-  <AbPlayer a={{ url: "/a.wav", label: "louder" }} b={{ url: "/b.wav", label: "quieter" }} comments={[{ id: "c1", timeS: 2.5, body: "here" }]} />,
+  <>
+    <AbPlayer a={{ url: "/a.wav", label: "louder" }} b={{ url: "/b.wav", label: "quieter" }} comments={[{ id: "c1", timeS: 2.5, body: "here" }]} />
+    <TraceCharts aligned={aligned} positionS={1} labels={{ a: "louder", b: "quieter" }} />
+  </>,
 );`,
     );
     const { createServer } = await import("vite");
@@ -123,6 +135,13 @@ createRoot(document.getElementById("root")!).render(
     await page.getByLabel("Level matching").uncheck();
     expect(await attrs()).toMatchObject({ matching: "off", matchGainDb: "0.00" });
     await page.getByLabel("Level matching").check();
+  });
+
+  it("draws one chart per stage trace and one for loudness, both renders in each", async () => {
+    const panels = page.locator("[data-testid=trace-charts] figure");
+    expect(await panels.evaluateAll((els) => els.map((e) => e.getAttribute("data-panel")))).toEqual(["s2:gr", "loudness"]);
+    await expect.poll(() => page.locator("[data-panel='s2:gr'] .recharts-area-area").count()).toBe(2);
+    expect(await page.locator("[data-panel=loudness] .recharts-line-curve").count()).toBe(1);
   });
 
   it("loops over a region dragged on the waveform, and seeks from a comment marker", async () => {
