@@ -1,21 +1,85 @@
-import { Link } from "react-router";
+import { useEffect } from "react";
+import { data, Link, redirect, useRevalidator } from "react-router";
+import { MaxFileSizeExceededError, parseFormData } from "@mjackson/form-data-parser";
 import type { Route } from "./+types/track";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
-import { isStaff } from "../lib/roles.ts";
+import { isStaff, STAFF } from "../lib/roles.ts";
 import { getTrack } from "../models/track.server.ts";
+import { listMixVersions } from "../models/mix.server.ts";
+import { listTrackRenders } from "../lib/render-views.server.ts";
+import { formatBytes, receiveMixUpload, tooLargeMessage, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
 import { formatIsrc } from "../schemas/track.ts";
 import { PageHeader } from "../components/page-header.tsx";
+import { MixUploadForm } from "../components/upload/mix-upload-form.tsx";
+import { MixVersionsTable } from "../components/upload/mix-versions-table.tsx";
+import { RenderList } from "../components/render/render-list.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  return { release: { id: release.id, title: release.title, clientName: release.clientName }, track, staff: isStaff(user.role) };
+  const [mixes, renders] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id)]);
+  return {
+    release: { id: release.id, title: release.title, clientName: release.clientName },
+    track,
+    staff: isStaff(user.role),
+    mixes: mixes.map((m) => ({
+      id: m.id,
+      version: m.version,
+      originalName: m.originalName,
+      sizeBytes: m.sizeBytes,
+      durationSeconds: m.durationSeconds,
+      format: `${m.sampleFormat === "float" ? "float" : "PCM"} ${m.bitDepth}-bit · ${m.sampleRateHz / 1000} kHz · ${m.channels === 1 ? "mono" : m.channels === 2 ? "stereo" : `${m.channels} ch`}`,
+      analysisState: m.analysisState,
+      analysisError: m.analysisError,
+      integratedLufs: (m.analysis as { integratedLufs?: number } | null)?.integratedLufs ?? null,
+      truePeakDbtp: (m.analysis as { truePeakDbtp?: number } | null)?.truePeakDbtp ?? null,
+      createdAt: m.createdAt.toISOString(),
+    })),
+    renders,
+    uploadLimit: formatBytes(uploadMaxBytes()),
+  };
 }
 
-export default function Track({ loaderData }: Route.ComponentProps) {
-  const { release, track, staff } = loaderData;
+/** The upload without scripts: a multipart post of one or more files. */
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
+  const track = await getTrack(release.id, params.trackId);
+  if (!track) throw notFound();
+  const maxBytes = uploadMaxBytes();
+  const uploaded: number[] = [];
+  try {
+    // The parser keeps one part in memory before handing it over; the script
+    // path (routes/mix-upload.ts) streams instead. This is only the fallback.
+    await parseFormData(request, { maxFileSize: maxBytes, maxFiles: 20 }, async (file) => {
+      if (!file.name && file.size === 0) return null;
+      const mix = await receiveMixUpload({ trackId: track.id, userId: user.id, fileName: file.name, body: file.stream() });
+      uploaded.push(mix.version);
+      return null;
+    });
+  } catch (error) {
+    if (error instanceof MaxFileSizeExceededError) return data({ error: tooLargeMessage(maxBytes), uploaded }, { status: 413 });
+    if (error instanceof UploadError) return data({ error: error.message, uploaded }, { status: error.status });
+    throw error;
+  }
+  if (uploaded.length === 0) return data({ error: "Choose a WAV file to upload.", uploaded }, { status: 400 });
+  return redirect(`/releases/${release.id}/tracks/${track.id}`, 303);
+}
+
+export default function Track({ loaderData, actionData }: Route.ComponentProps) {
+  const { release, track, staff, mixes, renders, uploadLimit } = loaderData;
+  const base = `/releases/${release.id}/tracks/${track.id}`;
+  const working = mixes.some((m) => m.analysisState === "pending" || m.analysisState === "running") || renders.some((r) => r.state === "queued" || r.state === "running");
+  const revalidator = useRevalidator();
+  // Analyses and renders finish in the worker: look again every 2 s until none is left.
+  useEffect(() => {
+    if (!working) return;
+    const timer = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 2000);
+    return () => clearInterval(timer);
+  }, [working, revalidator]);
   return (
     <>
       <p className="mb-2 text-sm">
@@ -48,12 +112,29 @@ export default function Track({ loaderData }: Route.ComponentProps) {
           <dd className="num mt-1">{track.isrc ? formatIsrc(track.isrc) : "—"}</dd>
         </div>
       </dl>
-      {/* Mixes, renders and reviews of this track join this page in later issues. */}
       <section aria-labelledby="mixes" className="mt-8">
         <h2 id="mixes" className="text-lg font-semibold">
           Mixes
         </h2>
-        <p className="mt-2 text-sm text-ink-soft">No mixes uploaded for this track yet.</p>
+        {mixes.length === 0 ? (
+          <p className="mt-2 text-sm text-ink-soft">No mixes uploaded for this track yet.</p>
+        ) : (
+          <MixVersionsTable mixes={mixes} downloadBase={staff ? `${base}/mixes` : undefined} />
+        )}
+        {staff && <MixUploadForm uploadUrl={`${base}/mixes`} maxBytesLabel={uploadLimit} error={actionData?.error} />}
+      </section>
+      <section aria-labelledby="renders" className="mt-8">
+        <div className="flex flex-wrap items-center justify-between gap-3">
+          <h2 id="renders" className="text-lg font-semibold">
+            Renders
+          </h2>
+          {staff && mixes.length > 0 && (
+            <Link to={`${base}/renders/new`} className="btn-primary">
+              New render
+            </Link>
+          )}
+        </div>
+        {renders.length === 0 ? <p className="mt-2 text-sm text-ink-soft">No renders of this track yet.</p> : <RenderList renders={renders} base={base} />}
       </section>
     </>
   );

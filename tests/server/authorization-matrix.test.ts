@@ -24,6 +24,13 @@ import * as chainPage from "../../app/routes/chain.tsx";
 import * as templates from "../../app/routes/templates.tsx";
 import * as settingsTokens from "../../app/routes/settings-tokens.tsx";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
+import * as mixUpload from "../../app/routes/mix-upload.ts";
+import * as downloadMix from "../../app/routes/download.mix.ts";
+import * as renderNew from "../../app/routes/render-new.tsx";
+import * as renderPage from "../../app/routes/render.tsx";
+import * as renderProgress from "../../app/routes/render-progress.ts";
+import * as downloadRender from "../../app/routes/download.render.ts";
+import { addStoredRender, type StoredRender } from "./download-fixture.ts";
 
 type Expect = Record<Persona, Outcome>;
 const everyone = (outcome: Outcome): Expect => Object.fromEntries(PERSONAS.map((p) => [p, outcome])) as Expect;
@@ -81,16 +88,31 @@ const cases: Case[] = [
   { route: "/templates", file: "routes/templates.tsx", kind: "action", handler: templates.action as Handler, path: () => "/templates", form: { name: "" }, expected: staff },
   { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "loader", handler: settingsTokens.loader as Handler, path: () => "/settings/tokens", expected: signedIn },
   { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "action", handler: settingsTokens.action as Handler, path: () => "/settings/tokens", form: { intent: "create", name: "" }, expected: signedIn },
+  { route: "/releases/:releaseId/tracks/:trackId", file: "routes/track.tsx", kind: "action", handler: track.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}`, params: trk, form: {}, expected: releaseStaff },
+  { route: "…/tracks/:trackId/mixes", file: "routes/mix-upload.ts", kind: "action", handler: mixUpload.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/mixes`, params: trk, form: {}, expected: releaseStaff },
+  { route: "…/mixes/:mixId/download", file: "routes/download.mix.ts", kind: "loader", handler: downloadMix.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/mixes/${stored.mixId}/download`, params: (f) => ({ ...trk(f), mixId: stored.mixId }), expected: releaseStaff },
+  { route: "…/renders/new", file: "routes/render-new.tsx", kind: "loader", handler: renderNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/new`, params: trk, expected: releaseStaff },
+  { route: "…/renders/new", file: "routes/render-new.tsx", kind: "action", handler: renderNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/new`, params: trk, form: {}, expected: releaseStaff },
+  { route: "…/renders/:renderId", file: "routes/render.tsx", kind: "loader", handler: renderPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
+  { route: "…/renders/:renderId", file: "routes/render.tsx", kind: "action", handler: renderPage.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), form: {}, expected: releaseStaff },
+  { route: "…/renders/:renderId/progress", file: "routes/render-progress.ts", kind: "loader", handler: renderProgress.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/progress`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
+  { route: "…/renders/:renderId/download", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/download`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
 ];
+
+let stored: StoredRender;
 
 beforeAll(async () => {
   fixture = await createFixture();
   const trackChain = await createChain({ studioId: fixture.studioId, trackId: fixture.trackId, name: "Matrix chain" });
   await createRevision(trackChain.id, { stages: [] }, null);
   trackChainId = trackChain.id;
+  stored = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
   ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
 });
-afterAll(async () => destroyFixture(fixture));
+afterAll(async () => {
+  await stored?.cleanup();
+  await destroyFixture(fixture);
+});
 
 describe("authorisation matrix", () => {
   it("covers every route file in app/routes.ts", () => {

@@ -1,0 +1,74 @@
+// Read models for the track and render pages: renders with their mix version
+// and chain name, and the chains a render may use (the track's own and the
+// studio's templates, each at its latest revision).
+import { db } from "./db.server.ts";
+import { listTemplates, listTrackChains, type Chain } from "../models/chain.server.ts";
+import type { RenderKind, RenderState } from "../models/render.server.ts";
+
+export type RenderListItem = {
+  id: string;
+  kind: RenderKind;
+  state: RenderState;
+  progress: number;
+  mixVersion: number;
+  chainName: string;
+  chainRevision: number;
+  region: { startS: number; endS: number } | null;
+  targetLufs: number | null;
+  queuedAt: string;
+  error: string | null;
+};
+
+export async function listTrackRenders(trackId: string): Promise<RenderListItem[]> {
+  const rows = await db("renders as r")
+    .join("mixes as m", "m.id", "r.mix_id")
+    .join("chain_revisions as cr", "cr.id", "r.chain_revision_id")
+    .join("chains as c", "c.id", "cr.chain_id")
+    .where("m.track_id", trackId)
+    .orderBy("r.queued_at", "desc")
+    .select(
+      "r.id", "r.kind", "r.state", "r.progress", "r.region_start_s", "r.region_end_s", "r.target_lufs", "r.queued_at", "r.error",
+      "m.version as mix_version", "c.name as chain_name", "cr.revision as chain_revision",
+    );
+  return rows.map((row) => ({
+    id: row.id,
+    kind: row.kind,
+    state: row.state,
+    progress: row.progress,
+    mixVersion: row.mix_version,
+    chainName: row.chain_name,
+    chainRevision: row.chain_revision,
+    region: row.region_start_s === null ? null : { startS: row.region_start_s, endS: row.region_end_s },
+    targetLufs: row.target_lufs,
+    queuedAt: new Date(row.queued_at).toISOString(),
+    error: row.error,
+  }));
+}
+
+export type ChainChoice = { revisionId: string; label: string; template: boolean };
+
+/** Chains with at least one revision; a chain without one cannot render yet. */
+export async function listChainChoices(studioId: string, trackId: string): Promise<ChainChoice[]> {
+  const [own, templates] = await Promise.all([listTrackChains(trackId), listTemplates(studioId)]);
+  const chains: (Chain & { template: boolean })[] = [...own.map((c) => ({ ...c, template: false })), ...templates.map((c) => ({ ...c, template: true }))];
+  if (chains.length === 0) return [];
+  const latest = await db("chain_revisions")
+    .whereIn("chain_id", chains.map((c) => c.id))
+    .distinctOn("chain_id")
+    .orderBy([{ column: "chain_id" }, { column: "revision", order: "desc" }])
+    .select<{ id: string; chain_id: string; revision: number }[]>("id", "chain_id", "revision");
+  const byChain = new Map(latest.map((r) => [r.chain_id, r]));
+  return chains.flatMap((c) => {
+    const rev = byChain.get(c.id);
+    return rev ? [{ revisionId: rev.id, label: `${c.name} · rev ${rev.revision}${c.template ? " (template)" : ""}`, template: c.template }] : [];
+  });
+}
+
+/** The chain name and revision number of a render's revision. */
+export async function describeRevision(revisionId: string): Promise<{ chainName: string; revision: number; chainId: string } | undefined> {
+  const row = await db("chain_revisions as cr")
+    .join("chains as c", "c.id", "cr.chain_id")
+    .where("cr.id", revisionId)
+    .first<{ name: string; revision: number; chain_id: string } | undefined>("c.name", "cr.revision", "cr.chain_id");
+  return row && { chainName: row.name, revision: row.revision, chainId: row.chain_id };
+}

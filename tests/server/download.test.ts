@@ -1,0 +1,121 @@
+// Downloads of mixes and renders: headers (RFC 6266 name, length, ranges),
+// byte ranges as RFC 9110 §14 describes them (206 with Content-Range, 416
+// when unsatisfiable), bytes equal to the stored slice; who may fetch what.
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { contentDisposition, parseRange } from "../../app/lib/http-range.server.ts";
+import * as downloadMix from "../../app/routes/download.mix.ts";
+import * as downloadRender from "../../app/routes/download.render.ts";
+import { createFixture, destroyFixture, requestAs, type Fixture, type Persona } from "./fixtures.ts";
+import { addStoredRender, type StoredRender } from "./download-fixture.ts";
+
+let fixture: Fixture;
+let stored: StoredRender;
+
+beforeAll(async () => {
+  fixture = await createFixture();
+  stored = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
+});
+afterAll(async () => {
+  await stored?.cleanup();
+  await destroyFixture(fixture);
+});
+
+const base = () => `/releases/${fixture.releaseId}/tracks/${fixture.trackId}`;
+
+async function fetchRender(persona: Persona, range?: string, search = ""): Promise<Response> {
+  const request = requestAs(fixture, persona, `${base()}/renders/${stored.renderId}/download${search}`);
+  if (range) request.headers.set("Range", range);
+  const params = { releaseId: fixture.releaseId, trackId: fixture.trackId, renderId: stored.renderId };
+  return Promise.resolve(downloadRender.loader({ request, params, context: {} } as never)).catch((e: unknown) => e as Response);
+}
+
+async function fetchMix(persona: Persona, range?: string): Promise<Response> {
+  const request = requestAs(fixture, persona, `${base()}/mixes/${stored.mixId}/download`);
+  if (range) request.headers.set("Range", range);
+  const params = { releaseId: fixture.releaseId, trackId: fixture.trackId, mixId: stored.mixId };
+  return Promise.resolve(downloadMix.loader({ request, params, context: {} } as never)).catch((e: unknown) => e as Response);
+}
+
+const bytesOf = async (response: Response) => Buffer.from(await response.arrayBuffer());
+
+describe("parseRange", () => {
+  it("reads single ranges, suffixes and open ends; refuses what lies past the end", () => {
+    expect(parseRange(null, 100)).toBeNull();
+    expect(parseRange("bytes=0-9", 100)).toEqual({ start: 0, end: 9 });
+    expect(parseRange("bytes=90-", 100)).toEqual({ start: 90, end: 99 });
+    expect(parseRange("bytes=-10", 100)).toEqual({ start: 90, end: 99 });
+    expect(parseRange("bytes=-500", 100)).toEqual({ start: 0, end: 99 });
+    expect(parseRange("bytes=50-500", 100)).toEqual({ start: 50, end: 99 });
+    expect(parseRange("bytes=100-", 100)).toBe("unsatisfiable");
+    expect(parseRange("bytes=-0", 100)).toBe("unsatisfiable");
+    // Not served as ranges: the whole file instead (RFC 9110 lets a server ignore Range).
+    expect(parseRange("bytes=0-1,5-6", 100)).toBeNull();
+    expect(parseRange("items=0-1", 100)).toBeNull();
+    expect(parseRange("bytes=9-3", 100)).toBeNull();
+  });
+
+  it("names files as RFC 6266 asks, with an ASCII fallback", () => {
+    expect(contentDisposition("Lowlight Weather - 01 Glass – v2 print.wav")).toBe(
+      `attachment; filename="Lowlight Weather - 01 Glass  v2 print.wav"; filename*=UTF-8''Lowlight%20Weather%20-%2001%20Glass%20%E2%80%93%20v2%20print.wav`,
+    );
+  });
+});
+
+describe("render download", () => {
+  it("answers the whole print with its headers", async () => {
+    const response = await fetchRender("client");
+    expect(response.status).toBe(200);
+    expect(response.headers.get("Content-Type")).toBe("audio/wav");
+    expect(response.headers.get("Accept-Ranges")).toBe("bytes");
+    expect(response.headers.get("Content-Length")).toBe(String(stored.outputBytes.length));
+    const disposition = response.headers.get("Content-Disposition")!;
+    expect(disposition).toMatch(/^attachment; filename=".+\.wav"; filename\*=UTF-8''.+\.wav$/);
+    expect(disposition).toContain("v1 print");
+    expect(await bytesOf(response)).toEqual(stored.outputBytes);
+  });
+
+  it("answers a range with 206 and exactly those bytes", async () => {
+    const response = await fetchRender("engineer", "bytes=1000-4999");
+    expect(response.status).toBe(206);
+    expect(response.headers.get("Content-Range")).toBe(`bytes 1000-4999/${stored.outputBytes.length}`);
+    expect(response.headers.get("Content-Length")).toBe("4000");
+    expect(await bytesOf(response)).toEqual(stored.outputBytes.subarray(1000, 5000));
+  });
+
+  it("answers a suffix range with the last bytes", async () => {
+    const response = await fetchRender("owner", "bytes=-123");
+    expect(response.status).toBe(206);
+    const size = stored.outputBytes.length;
+    expect(response.headers.get("Content-Range")).toBe(`bytes ${size - 123}-${size - 1}/${size}`);
+    expect(await bytesOf(response)).toEqual(stored.outputBytes.subarray(size - 123));
+  });
+
+  it("answers 416 with the size for a range past the end", async () => {
+    const response = await fetchRender("engineer", `bytes=${stored.outputBytes.length}-`);
+    expect(response.status).toBe(416);
+    expect(response.headers.get("Content-Range")).toBe(`bytes */${stored.outputBytes.length}`);
+  });
+
+  it("plays inline for the page's player", async () => {
+    const response = await fetchRender("client", "bytes=0-1", "?inline=1");
+    expect(response.status).toBe(206);
+    expect(response.headers.get("Content-Disposition")).toMatch(/^inline; /);
+  });
+
+  it("is a 404 for anyone who may not see the release", async () => {
+    for (const persona of ["otherClient", "otherStudio"] as const) expect((await fetchRender(persona)).status, persona).toBe(404);
+  });
+});
+
+describe("mix download", () => {
+  it("gives staff the original, with ranges", async () => {
+    const response = await fetchMix("engineer", "bytes=10-19");
+    expect(response.status).toBe(206);
+    expect(await bytesOf(response)).toEqual(stored.mixBytes.subarray(10, 20));
+    expect(response.headers.get("Content-Disposition")).toContain("mix v1.wav");
+  });
+
+  it("is a 404 for a client (clients get previews and prints, not originals)", async () => {
+    expect((await fetchMix("client")).status).toBe(404);
+  });
+});
