@@ -195,3 +195,40 @@ export async function releasePackage(releaseId: string, options: { storage?: Sto
   const stream = streamReleasePackage({ files, reportCsv: loudnessReportCsv(report) }, options.storage ?? sharedStorage());
   return { stream, files: files.map((f) => f.path) };
 }
+
+/**
+ * Queues a delivery of every track in every format of the release, each from
+ * the track's newest finished print. Tracks without a finished print are
+ * returned as missing. Returns the ids of the new deliveries (to hand to
+ * makeDelivery, in a worker).
+ */
+export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; tracksWithoutPrint: string[] }> {
+  const formats = await releaseFormats(releaseId, conn);
+  const prints = await conn("tracks as t")
+    .leftJoin(
+      conn("renders as r")
+        .join("mixes as m", "m.id", "r.mix_id")
+        .where({ "r.kind": "print", "r.state": "done" })
+        .distinctOn("m.track_id")
+        .orderBy([{ column: "m.track_id" }, { column: "r.finished_at", order: "desc", nulls: "last" }, { column: "r.queued_at", order: "desc" }])
+        .select("m.track_id", "r.id as render_id")
+        .as("p"),
+      "p.track_id",
+      "t.id",
+    )
+    .where("t.release_id", releaseId)
+    .orderBy("t.position")
+    .select("t.id as trackId", "p.render_id as renderId");
+  const deliveryIds: string[] = [];
+  const tracksWithoutPrint: string[] = [];
+  await conn.transaction(async (trx) => {
+    for (const p of prints as { trackId: string; renderId: string | null }[]) {
+      if (!p.renderId) {
+        tracksWithoutPrint.push(p.trackId);
+        continue;
+      }
+      for (const f of formats) deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.renderId }, trx));
+    }
+  });
+  return { deliveryIds, tracksWithoutPrint };
+}

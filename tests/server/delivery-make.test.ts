@@ -11,7 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
 import { bextText, makeDelivery } from "../../app/lib/delivery/make-delivery.server.ts";
 import { createStorage, type StorageDriver } from "../../app/lib/storage/storage.server.ts";
-import { createDelivery, studioFormats } from "../../app/models/delivery.server.ts";
+import { createDelivery, latestDeliveries, queueReleaseDeliveries, studioFormats } from "../../app/models/delivery.server.ts";
 import { readBextFromWav } from "../../dsp/delivery/bext-wav.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
@@ -105,6 +105,20 @@ describe("making deliveries", () => {
     const id = await createDelivery({ trackId: fixture.trackId, formatId: streaming!.id, sourceRenderId: printId });
     await expect(makeDelivery(id, { storage: store })).rejects.toThrow();
     expect(await db("deliveries").where({ id }).first()).toMatchObject({ state: "failed", storage_key: null });
+  });
+
+  it("queues every track × format from each track's newest finished print", async () => {
+    const newest = await storedPrint(0.3);
+    const [second] = await db("tracks").insert({ release_id: fixture.releaseId, position: 2, title: "No print yet" }).returning("id");
+    const { deliveryIds, tracksWithoutPrint } = await queueReleaseDeliveries(fixture.releaseId);
+    expect(tracksWithoutPrint).toEqual([second.id]);
+    expect(deliveryIds).toHaveLength(2);
+    const rows = await db("deliveries").whereIn("id", deliveryIds);
+    expect(rows.map((r) => r.source_render_id)).toEqual([newest, newest]);
+    for (const id of deliveryIds) await makeDelivery(id, { storage: store });
+    const latest = await latestDeliveries(fixture.releaseId);
+    expect(latest.filter((d) => deliveryIds.includes(d.id))).toHaveLength(2);
+    for (const d of latest.filter((x) => deliveryIds.includes(x.id))) expect(d.analysis.integratedLufs).toBeCloseTo(20 * Math.log10(0.3), 1);
   });
 
   it("keeps bext text to printable ASCII within the field", () => {

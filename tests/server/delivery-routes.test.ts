@@ -11,6 +11,7 @@ import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { completeDelivery, createDelivery, studioFormats } from "../../app/models/delivery.server.ts";
 import { loader } from "../../app/routes/release-package.ts";
+import { loader as reportLoader } from "../../app/routes/release-loudness-report.ts";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
 import { createFixture, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 
@@ -80,5 +81,16 @@ describe("the package route", () => {
     const paid = await get("client");
     expect(paid.status).toBe(200);
     expect((await paid.arrayBuffer()).byteLength).toBeGreaterThan(stored.sizeBytes);
+  });
+
+  it("serves the loudness report CSV to the release's people only", async () => {
+    const report = (persona: Persona) => reportLoader({ request: requestAs(fixture, persona, `/releases/${fixture.releaseId}/loudness-report.csv`), params: { releaseId: fixture.releaseId } });
+    expect(await outcomeOf(() => report("otherClient"))).toBe("404");
+    const res = await report("client");
+    expect(res.headers.get("Content-Type")).toMatch(/^text\/csv/);
+    const lines = (await res.text()).split("\r\n");
+    // −23 LUFS is below every default reference (−14, −16, −23): no turn-down; PLR = −20 − (−23) = 3 dB.
+    expect(lines[1]).toBe("1,Moonwake,,Streaming master 24-bit 48 kHz,-23,0,-20,3,0,0,0,");
+    expect(lines[2]).toBe("1,Moonwake,,CD master 16-bit 44.1 kHz,,,,,,,,not delivered");
   });
 });
