@@ -56,6 +56,8 @@ export function designTruePeakPhases(factor: number): Float64Array[] {
     for (let k = 0; k < TAPS_PER_PHASE; k++) c[k] /= sum;
     phases.push(c);
   }
+  // Phase L − p is phase p time-reversed; make it so to the last bit, which the 4× fast path relies on.
+  for (let p = 1; p < factor / 2; p++) phases[factor - p - 1] = phases[p - 1].slice().reverse();
   return phases;
 }
 
@@ -115,12 +117,14 @@ export class TruePeakDetector {
         }
         if (local > max) max = local;
         if (local * bound <= max) continue; // no interpolated point here can exceed the maximum
+        if (this.factor === 4) {
+          const v = interpolatedMax4x(h, this.phases[0], this.phases[1], start, end);
+          if (v > max) max = v;
+          continue;
+        }
         for (let p = 0; p < this.phases.length; p++) {
           const c = this.phases[p];
-          const v =
-            c.length === 12 ? interpolatedMax12(h, c, start, end)
-            : c.length === 24 ? interpolatedMaxSymmetric24(h, c, start, end)
-            : interpolatedMax(h, c, start, end, HISTORY);
+          const v = c.length === 24 ? interpolatedMaxSymmetric24(h, c, start, end) : interpolatedMax(h, c, start, end, HISTORY);
           if (v > max) max = v;
         }
       }
@@ -174,19 +178,28 @@ function interpolatedMax(h: Float64Array, c: Float64Array, start: number, end: n
   return m;
 }
 
-/** The same, unrolled for 12 taps (the 4× case, the common one). */
-function interpolatedMax12(h: Float64Array, c: Float64Array, start: number, end: number): number {
-  const HISTORY = 11;
-  const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5];
-  const c6 = c[6], c7 = c[7], c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11];
+/**
+ * The 4× case, all three phases in one pass over 12 loaded samples: phase 3 is
+ * phase 1 reversed and phase 2 is symmetric (both exact by construction).
+ */
+function interpolatedMax4x(h: Float64Array, p1: Float64Array, p2: Float64Array, start: number, end: number): number {
+  const a0 = p1[0], a1 = p1[1], a2 = p1[2], a3 = p1[3], a4 = p1[4], a5 = p1[5];
+  const a6 = p1[6], a7 = p1[7], a8 = p1[8], a9 = p1[9], a10 = p1[10], a11 = p1[11];
+  const c0 = p2[0], c1 = p2[1], c2 = p2[2], c3 = p2[3], c4 = p2[4], c5 = p2[5];
   let m = 0;
   for (let n = start; n < end; n++) {
-    const b = n + HISTORY;
-    const y =
-      c0 * h[b] + c1 * h[b - 1] + c2 * h[b - 2] + c3 * h[b - 3] + c4 * h[b - 4] + c5 * h[b - 5] +
-      c6 * h[b - 6] + c7 * h[b - 7] + c8 * h[b - 8] + c9 * h[b - 9] + c10 * h[b - 10] + c11 * h[b - 11];
-    const a = y < 0 ? -y : y;
-    if (a > m) m = a;
+    // x[n − k] is at h[n + 11 − k]
+    const x0 = h[n + 11], x1 = h[n + 10], x2 = h[n + 9], x3 = h[n + 8], x4 = h[n + 7], x5 = h[n + 6];
+    const x6 = h[n + 5], x7 = h[n + 4], x8 = h[n + 3], x9 = h[n + 2], x10 = h[n + 1], x11 = h[n];
+    const y1 = a0 * x0 + a1 * x1 + a2 * x2 + a3 * x3 + a4 * x4 + a5 * x5 + a6 * x6 + a7 * x7 + a8 * x8 + a9 * x9 + a10 * x10 + a11 * x11;
+    const y3 = a11 * x0 + a10 * x1 + a9 * x2 + a8 * x3 + a7 * x4 + a6 * x5 + a5 * x6 + a4 * x7 + a3 * x8 + a2 * x9 + a1 * x10 + a0 * x11;
+    const y2 = c0 * (x0 + x11) + c1 * (x1 + x10) + c2 * (x2 + x9) + c3 * (x3 + x8) + c4 * (x4 + x7) + c5 * (x5 + x6);
+    const b1 = y1 < 0 ? -y1 : y1;
+    const b2 = y2 < 0 ? -y2 : y2;
+    const b3 = y3 < 0 ? -y3 : y3;
+    if (b1 > m) m = b1;
+    if (b2 > m) m = b2;
+    if (b3 > m) m = b3;
   }
   return m;
 }
