@@ -24,7 +24,7 @@ export async function runAnalyzeJob(job: PgBoss.JobWithMetadata<unknown>, ctx: W
   const untrack = ctx.track(abort);
   let input: LocalFile | undefined;
   try {
-    input = await ctx.storage.localFile(mix.storageKey);
+    input = await ctx.storage.localFile(mix.storageKey, ctx.tmpDir);
     const channel = new MessageChannel();
     const task: AnalyzeTask = { kind: "analyze", inputPath: input.path, port: channel.port1 };
     let raw: unknown;

@@ -45,7 +45,7 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
     const mix = await db("mixes").where({ id: row.mix_id }).first<{ storage_key: string }>("storage_key");
     const revision = await db("chain_revisions").where({ id: row.chain_revision_id }).first<{ params: unknown }>("params");
     if (!mix || !revision) throw new Error("the mix or the chain revision of this render no longer exists");
-    input = await ctx.storage.localFile(mix.storage_key);
+    input = await ctx.storage.localFile(mix.storage_key, ctx.tmpDir);
     folder = await mkdtemp(path.join(ctx.tmpDir, `render-${renderId}-`));
     const outputPath = path.join(folder, "output.wav");
     const tracesPath = path.join(folder, "traces.json");

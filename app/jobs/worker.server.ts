@@ -6,7 +6,8 @@
 // of them. SIGTERM or SIGINT: take no new jobs, let running ones finish for
 // WORKER_SHUTDOWN_GRACE_SECONDS, then hand the rest back to the queue.
 import os from "node:os";
-import { mkdir } from "node:fs/promises";
+import path from "node:path";
+import { mkdir, readdir, rm } from "node:fs/promises";
 import { Piscina } from "piscina";
 import type PgBoss from "pg-boss";
 import { z } from "zod";
@@ -33,7 +34,28 @@ const env = z
 const log = (message: string) => console.error(`[tidemark] worker ${process.pid}: ${message}`);
 const threads = env.WORKER_THREADS ?? os.availableParallelism();
 const settings = queueSettings();
-await mkdir(env.WORKER_TMP_DIR, { recursive: true });
+
+/**
+ * Temporary copies live in a folder per worker process. A process killed
+ * outright cannot clean up, so each worker at start removes the folders of
+ * processes on this machine that no longer exist.
+ */
+async function prepareTmpDir(base: string): Promise<string> {
+  await mkdir(base, { recursive: true });
+  for (const name of await readdir(base)) {
+    const match = /^tidemark-worker-(\d+)$/.exec(name);
+    if (!match || Number(match[1]) === process.pid) continue;
+    try {
+      process.kill(Number(match[1]), 0);
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code === "ESRCH") await rm(path.join(base, name), { recursive: true, force: true });
+    }
+  }
+  const own = path.join(base, `tidemark-worker-${process.pid}`);
+  await mkdir(own, { recursive: true });
+  return own;
+}
+const tmpDir = await prepareTmpDir(env.WORKER_TMP_DIR);
 
 const boss = await startBoss(settings, { supervise: true, maintenanceIntervalSeconds: env.QUEUE_MAINTENANCE_SECONDS, maxConnections: 2 + threads });
 const pool = new Piscina({
@@ -50,7 +72,7 @@ const ctx: WorkerContext = {
   pool,
   storage: storage(),
   settings,
-  tmpDir: env.WORKER_TMP_DIR,
+  tmpDir,
   track(abort) {
     running.add(abort);
     return () => running.delete(abort);
@@ -133,6 +155,7 @@ async function shutdown(signal: string): Promise<void> {
   await pool.destroy();
   await boss.stop({ graceful: false, wait: true });
   await db.destroy();
+  await rm(tmpDir, { recursive: true, force: true });
   log("stopped");
   process.exit(0);
 }

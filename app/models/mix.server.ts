@@ -222,7 +222,7 @@ export async function addUploadedMix(input: {
   maxBytes?: number;
 }): Promise<Mix> {
   const maxBytes = input.maxBytes ?? uploadMaxBytes();
-  const folder = await mkdtemp(path.join(process.env.WORKER_TMP_DIR ?? os.tmpdir(), "tidemark-upload-"));
+  const folder = await mkdtemp(path.join(process.env.UPLOAD_TMP_DIR ?? os.tmpdir(), "tidemark-upload-"));
   const spooled = path.join(folder, "upload.wav");
   try {
     let received = 0;

@@ -3,7 +3,7 @@
 // the render completes; no row stays "running". After the last try the row
 // is failed with a message an engineer can read. Short limits (a few
 // seconds) keep this file quick.
-import { mkdtemp, rm } from "node:fs/promises";
+import { mkdtemp, readdir, rm } from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -23,7 +23,7 @@ const queueEnv = {
   RENDER_JOB_EXPIRE_SECONDS: "8",
   ANALYZE_JOB_EXPIRE_SECONDS: "8",
 };
-const workerEnv = { ...queueEnv, QUEUE_MAINTENANCE_SECONDS: "1", WORKER_SWEEP_SECONDS: "1", WORKER_SHUTDOWN_GRACE_SECONDS: "0" };
+const workerEnv: Record<string, string> = { ...queueEnv, QUEUE_MAINTENANCE_SECONDS: "1", WORKER_SWEEP_SECONDS: "1", WORKER_SHUTDOWN_GRACE_SECONDS: "0" };
 Object.assign(process.env, queueEnv);
 
 let fixture: Fixture;
@@ -41,6 +41,8 @@ async function start(extra: Record<string, string> = {}) {
 beforeAll(async () => {
   fixture = await createFixture("worker-kill");
   scratch = await mkdtemp(path.join(os.tmpdir(), "tidemark-kill-test-"));
+  // A killed worker leaves its temporary folder; the next worker removes it, the test's cleanup the rest.
+  workerEnv.WORKER_TMP_DIR = path.join(scratch, "worker-tmp");
   const chain = await createChain({ studioId: fixture.studioId, trackId: fixture.trackId, name: "Kill chain" });
   revision = await createRevision(chain.id, gentleChain(), fixture.userId);
   // Long enough that a render is still running a moment after it starts.
@@ -83,6 +85,9 @@ describe("a worker killed in the middle of a job", () => {
     const done = await waitForRender(render.id, "done", 60_000);
     expect(done.attempts).toBe(2);
     expect(await storage().exists(done.output!.key)).toBe(true);
+    // The killed worker's temporary folder was removed by its successor.
+    const folders = await readdir(workerEnv.WORKER_TMP_DIR);
+    expect(folders).toEqual([`tidemark-worker-${workers.at(-1)!.pid}`]);
 
     const settings = queueSettings();
     const boss = new PgBoss({ connectionString: settings.databaseUrl, schema: "pgboss", supervise: false, schedule: false, max: 1 });

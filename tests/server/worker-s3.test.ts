@@ -68,8 +68,10 @@ describe.skipIf(!s3)("S3 storage end to end", () => {
     for await (const chunk of await storage().get(done.output!.key, { start: 0, end: 11 })) ranged.push(Buffer.from(chunk));
     expect(Buffer.concat(ranged).equals(head.subarray(0, 12))).toBe(true);
 
-    // The worker's downloaded copy of the mix is gone once the job ended.
-    const leftovers = await import("node:fs/promises").then((fs) => fs.readdir(path.join(scratch, "worker-tmp")).catch(() => []));
-    expect(leftovers).toEqual([]);
+    // The worker's downloaded copy of the mix is gone once the job ended; only its own (empty) folder is left.
+    const fs = await import("node:fs/promises");
+    const folders = await fs.readdir(path.join(scratch, "worker-tmp"));
+    expect(folders).toEqual([`tidemark-worker-${worker!.pid}`]);
+    expect(await fs.readdir(path.join(scratch, "worker-tmp", folders[0]))).toEqual([]);
   });
 });

@@ -22,8 +22,8 @@ export interface StorageDriver {
   exists(key: string): Promise<boolean>;
   /** Deleting a missing key is not an error. */
   delete(key: string): Promise<void>;
-  /** A local file with the object's bytes, for a worker that reads by path. */
-  localFile(key: string): Promise<LocalFile>;
+  /** A local file with the object's bytes, for a worker that reads by path; a copy goes under `tmpDir` (default the system's). */
+  localFile(key: string, tmpDir?: string): Promise<LocalFile>;
 }
 
 export class StorageNotFoundError extends Error {

@@ -69,7 +69,7 @@ export function createLocalDriver(rootDir: string): StorageDriver {
       await rm(pathOf(key), { force: true });
     },
 
-    async localFile(key: string) {
+    async localFile(key: string, _tmpDir?: string) {
       await statOf(key);
       // The stored file itself; nothing to clean up.
       return { path: pathOf(key), release: async () => {} };

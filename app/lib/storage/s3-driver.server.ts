@@ -153,9 +153,9 @@ export function createS3Driver(settings: S3Settings): StorageDriver {
       await client.send(new DeleteObjectCommand({ Bucket, Key: key }));
     },
 
-    async localFile(key: string) {
+    async localFile(key: string, tmpDir?: string) {
       const body = await get(key);
-      const folder = await mkdtemp(path.join(process.env.WORKER_TMP_DIR ?? os.tmpdir(), "tidemark-"));
+      const folder = await mkdtemp(path.join(tmpDir ?? os.tmpdir(), "download-"));
       const filePath = path.join(folder, path.basename(key));
       const release = () => rm(folder, { recursive: true, force: true });
       try {
