@@ -50,6 +50,8 @@ export type AnalyzeJobData = { mixId: string };
 export const renderJobData = z.object({ renderId: z.uuid() });
 export const analyzeJobData = z.object({ mixId: z.uuid() });
 
+const MAX_EXPIRE_SECONDS = 23 * 3600;
+
 /**
  * How long a job may stay active before pg-boss gives it to another worker.
  * Sized so that a render at a quarter of real time on a busy core still fits
@@ -57,7 +59,8 @@ export const analyzeJobData = z.object({ mixId: z.uuid() });
  * plus a minute for downloading from storage and uploading the result.
  */
 export function expireSecondsFor(audioSeconds: number, passes = 1): number {
-  return Math.ceil(60 + 4 * passes * Math.max(audioSeconds, 1));
+  // pg-boss refuses expiries of a day or more.
+  return Math.min(MAX_EXPIRE_SECONDS, Math.ceil(60 + 4 * passes * Math.max(audioSeconds, 1)));
 }
 
 export type BossOptions = {
