@@ -5,6 +5,19 @@ export default [
   route("sign-in", "routes/sign-in.tsx"),
   route("sign-out", "routes/sign-out.tsx"),
   route("invitations/:token", "routes/invitation.tsx"),
+  // The JSON API: resource routes, signed in by a bearer token or the session cookie.
+  ...prefix("api", [
+    route("releases", "routes/api.releases.ts"),
+    route("releases/:releaseId/tracks", "routes/api.release-tracks.ts"),
+    route("chains", "routes/api.chains.ts"),
+    route("chains/:chainId", "routes/api.chain.ts"),
+    route("chains/:chainId/revisions", "routes/api.chain-revisions.ts"),
+    route("renders", "routes/api.renders.ts"),
+    route("renders/:renderId", "routes/api.render.ts"),
+    route("renders/:renderId/cancel", "routes/api.render-cancel.ts"),
+    route("renders/:renderId/traces", "routes/api.render-traces.ts"),
+    route("*", "routes/api.not-found.ts"),
+  ]),
   // Signed-in pages share the workspace layout with its navigation.
   layout("routes/workspace.tsx", [
     index("routes/dashboard.tsx"),

@@ -24,6 +24,17 @@ import * as chainPage from "../../app/routes/chain.tsx";
 import * as templates from "../../app/routes/templates.tsx";
 import * as settingsTokens from "../../app/routes/settings-tokens.tsx";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
+import { db } from "../../app/lib/db.server.ts";
+import * as apiReleases from "../../app/routes/api.releases.ts";
+import * as apiReleaseTracks from "../../app/routes/api.release-tracks.ts";
+import * as apiChains from "../../app/routes/api.chains.ts";
+import * as apiChain from "../../app/routes/api.chain.ts";
+import * as apiChainRevisions from "../../app/routes/api.chain-revisions.ts";
+import * as apiRenders from "../../app/routes/api.renders.ts";
+import * as apiRender from "../../app/routes/api.render.ts";
+import * as apiRenderCancel from "../../app/routes/api.render-cancel.ts";
+import * as apiRenderTraces from "../../app/routes/api.render-traces.ts";
+import * as apiNotFound from "../../app/routes/api.not-found.ts";
 import * as mixUpload from "../../app/routes/mix-upload.ts";
 import * as downloadMix from "../../app/routes/download.mix.ts";
 import * as renderNew from "../../app/routes/render-new.tsx";
@@ -49,6 +60,19 @@ type Case = { route: string; file: string; kind: "loader" | "action"; handler: H
 let fixture: Fixture;
 let invitationToken: string;
 let trackChainId: string;
+let apiRenderId: string;
+
+// API routes answer with a JSON status instead of throwing: 401 reads as "sign-in", 404 as "404".
+const api =
+  (handler: unknown): Handler =>
+  async (args) => {
+    const response = (await (handler as Handler)(args)) as Response;
+    if (response.status === 404) throw response;
+    if (response.status === 401) throw new Response(null, { status: 302, headers: { Location: "/sign-in" } });
+    return response;
+  };
+const rid = () => ({ renderId: apiRenderId });
+const cid = () => ({ chainId: trackChainId });
 
 const rel = (f: Fixture) => ({ releaseId: f.releaseId });
 const trk = (f: Fixture) => ({ releaseId: f.releaseId, trackId: f.trackId });
@@ -97,6 +121,24 @@ const cases: Case[] = [
   { route: "…/renders/:renderId", file: "routes/render.tsx", kind: "action", handler: renderPage.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), form: {}, expected: releaseStaff },
   { route: "…/renders/:renderId/progress", file: "routes/render-progress.ts", kind: "loader", handler: renderProgress.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/progress`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
   { route: "…/renders/:renderId/download", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/download`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
+  { route: "/api/releases", file: "routes/api.releases.ts", kind: "loader", handler: api(apiReleases.loader), path: () => "/api/releases", expected: signedIn },
+  { route: "/api/releases", file: "routes/api.releases.ts", kind: "action", handler: api(apiReleases.action), path: () => "/api/releases", form: { title: "" }, expected: staff },
+  { route: "/api/releases/:releaseId/tracks", file: "routes/api.release-tracks.ts", kind: "loader", handler: api(apiReleaseTracks.loader), path: (f) => `/api/releases/${f.releaseId}/tracks`, params: rel, expected: releaseViewers },
+  { route: "/api/releases/:releaseId/tracks", file: "routes/api.release-tracks.ts", kind: "action", handler: api(apiReleaseTracks.action), path: (f) => `/api/releases/${f.releaseId}/tracks`, params: rel, form: { title: "" }, expected: releaseStaff },
+  { route: "/api/chains", file: "routes/api.chains.ts", kind: "loader", handler: api(apiChains.loader), path: () => "/api/chains", expected: staff },
+  { route: "/api/chains", file: "routes/api.chains.ts", kind: "action", handler: api(apiChains.action), path: () => "/api/chains", form: { name: "" }, expected: staff },
+  { route: "/api/chains/:chainId", file: "routes/api.chain.ts", kind: "loader", handler: api(apiChain.loader), path: () => `/api/chains/${trackChainId}`, params: cid, expected: releaseStaff },
+  { route: "/api/chains/:chainId/revisions", file: "routes/api.chain-revisions.ts", kind: "loader", handler: api(apiChainRevisions.loader), path: () => `/api/chains/${trackChainId}/revisions`, params: cid, expected: releaseStaff },
+  { route: "/api/chains/:chainId/revisions", file: "routes/api.chain-revisions.ts", kind: "action", handler: api(apiChainRevisions.action), path: () => `/api/chains/${trackChainId}/revisions`, params: cid, form: { params: "" }, expected: releaseStaff },
+  { route: "/api/renders", file: "routes/api.renders.ts", kind: "loader", handler: api(apiRenders.loader), path: (f) => `/api/renders?trackId=${f.trackId}`, expected: releaseViewers },
+  { route: "/api/renders", file: "routes/api.renders.ts", kind: "action", handler: api(apiRenders.action), path: () => "/api/renders", form: { mixId: "" }, expected: staff },
+  { route: "/api/renders/:renderId", file: "routes/api.render.ts", kind: "loader", handler: api(apiRender.loader), path: () => `/api/renders/${apiRenderId}`, params: rid, expected: releaseViewers },
+  // GET on the cancel route is a 405 for anyone; it reveals nothing.
+  { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "loader", handler: api(apiRenderCancel.loader), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, expected: everyone("allowed") },
+  { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "action", handler: api(apiRenderCancel.action), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, form: {}, expected: releaseStaff },
+  { route: "/api/renders/:renderId/traces", file: "routes/api.render-traces.ts", kind: "loader", handler: api(apiRenderTraces.loader), path: () => `/api/renders/${apiRenderId}/traces`, params: rid, expected: releaseViewers },
+  { route: "/api/*", file: "routes/api.not-found.ts", kind: "loader", handler: api(apiNotFound.loader), path: () => "/api/nothing", expected: everyone("404") },
+  { route: "/api/*", file: "routes/api.not-found.ts", kind: "action", handler: api(apiNotFound.action), path: () => "/api/nothing", form: {}, expected: everyone("404") },
 ];
 
 let stored: StoredRender;
@@ -107,9 +149,15 @@ beforeAll(async () => {
   await createRevision(trackChain.id, { stages: [] }, null);
   trackChainId = trackChain.id;
   stored = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
+  // A queued render of the stored mix, for the API's render routes (no queue in this file).
+  const [revision] = await db("chain_revisions").where({ chain_id: trackChainId }).select("id");
+  const [queued] = await db("renders").insert({ mix_id: stored.mixId, chain_revision_id: revision.id, kind: "print" }).returning("id");
+  apiRenderId = queued.id;
   ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
 });
 afterAll(async () => {
+  // Renders hold their chain revision (NO ACTION), so they go before the studio's cascade.
+  if (apiRenderId) await db("renders").where({ id: apiRenderId }).delete();
   await stored?.cleanup();
   await destroyFixture(fixture);
 });

@@ -1,0 +1,38 @@
+// GET /api/renders?trackId=…: a track's renders, newest first.
+// POST: queue a render of a mix through a chain revision (staff).
+import type { Route } from "./+types/api.renders";
+import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
+import { mixFor, revisionForTrack, trackFor } from "../lib/api-access.server.ts";
+import { renderView } from "../lib/api-views.server.ts";
+import { STAFF } from "../lib/roles.ts";
+import { createRender, listRendersForTrack } from "../models/render.server.ts";
+import { apiRenderSchema } from "../schemas/api.ts";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  return handleApi(async () => {
+    const user = await requireApiUser(request);
+    const trackId = new URL(request.url).searchParams.get("trackId");
+    if (!trackId) return apiError(400, "Name the track", { trackId: "is required (?trackId=…)" });
+    const { track } = await trackFor(user, trackId);
+    const renders = await listRendersForTrack(track.id);
+    return json({ renders: renders.map((r) => ({ ...renderView(r), mixVersion: r.mixVersion })) });
+  });
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  return handleApi(async () => {
+    if (request.method !== "POST") return methodNotAllowed(["GET", "POST"]);
+    const user = await requireApiUser(request, STAFF);
+    const input = await readJson(request, apiRenderSchema);
+    const { mix } = await mixFor(user, input.mixId).catch(() => {
+      throw apiError(400, "Some fields are not valid", { mixId: "must be a mix of one of the studio's tracks" });
+    });
+    const revision = await revisionForTrack(user, input.chainRevisionId, mix.trackId);
+    if (!revision) return apiError(400, "Some fields are not valid", { chainRevisionId: "must be a revision of a studio template or of this track's chain" });
+    if (input.region && input.region.endS > mix.durationSeconds + 1e-6) {
+      return apiError(400, "Some fields are not valid", { "region.endS": `must be within the mix (${mix.durationSeconds.toFixed(2)} s)` });
+    }
+    const render = await createRender({ mixId: mix.id, chainRevisionId: revision.id, kind: input.kind, region: input.region, targetLufs: input.targetLufs, createdBy: user.id });
+    return json({ render: renderView(render) }, 201, { Location: `/api/renders/${render.id}` });
+  });
+}
