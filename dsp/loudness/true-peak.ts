@@ -150,7 +150,8 @@ export class TruePeakDetector {
         const a = h[j] < 0 ? -h[j] : h[j];
         if (a > outPeak[i]) outPeak[i] = a;
       }
-      for (let p = 0; p < this.phases.length; p++) phaseAbsMax(h, this.phases[p], frames, HISTORY, outPeak);
+      if (this.factor === 4) perFrame4x(h, this.phases[0], this.phases[1], frames, outPeak);
+      else for (let p = 0; p < this.phases.length; p++) phaseAbsMax(h, this.phases[p], frames, HISTORY, outPeak);
     }
     let max = this.max;
     for (let i = 0; i < frames; i++) if (outPeak[i] > max) max = outPeak[i];
@@ -243,5 +244,27 @@ function phaseAbsMax(h: Float64Array, c: Float64Array, frames: number, history: 
     for (let k = 0; k < T; k++) y += c[k] * h[b - k];
     const a = y < 0 ? -y : y;
     if (a > out[n]) out[n] = a;
+  }
+}
+
+/** out[n] = max(out[n], |y1|, |y2|, |y3|): the 4× phases of frame n in one pass (see interpolatedMax4x). */
+function perFrame4x(h: Float64Array, p1: Float64Array, p2: Float64Array, frames: number, out: Float64Array): void {
+  const a0 = p1[0], a1 = p1[1], a2 = p1[2], a3 = p1[3], a4 = p1[4], a5 = p1[5];
+  const a6 = p1[6], a7 = p1[7], a8 = p1[8], a9 = p1[9], a10 = p1[10], a11 = p1[11];
+  const c0 = p2[0], c1 = p2[1], c2 = p2[2], c3 = p2[3], c4 = p2[4], c5 = p2[5];
+  for (let n = 0; n < frames; n++) {
+    const x0 = h[n + 11], x1 = h[n + 10], x2 = h[n + 9], x3 = h[n + 8], x4 = h[n + 7], x5 = h[n + 6];
+    const x6 = h[n + 5], x7 = h[n + 4], x8 = h[n + 3], x9 = h[n + 2], x10 = h[n + 1], x11 = h[n];
+    const y1 = a0 * x0 + a1 * x1 + a2 * x2 + a3 * x3 + a4 * x4 + a5 * x5 + a6 * x6 + a7 * x7 + a8 * x8 + a9 * x9 + a10 * x10 + a11 * x11;
+    const y3 = a11 * x0 + a10 * x1 + a9 * x2 + a8 * x3 + a7 * x4 + a6 * x5 + a5 * x6 + a4 * x7 + a3 * x8 + a2 * x9 + a1 * x10 + a0 * x11;
+    const y2 = c0 * (x0 + x11) + c1 * (x1 + x10) + c2 * (x2 + x9) + c3 * (x3 + x8) + c4 * (x4 + x7) + c5 * (x5 + x6);
+    let m = out[n];
+    const b1 = y1 < 0 ? -y1 : y1;
+    const b2 = y2 < 0 ? -y2 : y2;
+    const b3 = y3 < 0 ? -y3 : y3;
+    if (b1 > m) m = b1;
+    if (b2 > m) m = b2;
+    if (b3 > m) m = b3;
+    out[n] = m;
   }
 }
