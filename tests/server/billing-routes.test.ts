@@ -6,9 +6,11 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startPaymentsFake, type PaymentsFake } from "../../scripts/fakes/payments.ts";
 import { db } from "../../app/lib/db.server.ts";
 import { action } from "../../app/routes/release-invoice.ts";
-import { saveStudioSettings } from "../../app/models/studio-settings.server.ts";
+import { action as settingsAction } from "../../app/routes/studio-billing.ts";
+import { formatCents, parseMoneyCents } from "../../app/lib/billing/settings-form.ts";
+import { getStudioSettings, saveStudioSettings } from "../../app/models/studio-settings.server.ts";
 import { getInvoiceForRelease } from "../../app/models/invoice.server.ts";
-import { createFixture, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
+import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 
 let fixture: Fixture;
 let fake: PaymentsFake;
@@ -70,5 +72,47 @@ describe("the invoice route", () => {
     expect(await getInvoiceForRelease(fixture.releaseId)).toBeUndefined();
     await location("owner", "build");
     expect((await getInvoiceForRelease(fixture.releaseId))!.state).toBe("draft");
+  });
+});
+
+describe("the billing settings route", () => {
+  const save = (persona: Persona, form: Record<string, string>) => settingsAction({ request: requestAs(fixture, persona, "/settings/billing", { form }) });
+  const good = { currency: "gbp", trackRate: "180", revisionRate: "45.5", references: "Streaming reference: -14\nNight listening: -18.5\n" };
+
+  it("reads money as exact cents", () => {
+    expect(parseMoneyCents("250")).toBe(25_000);
+    expect(parseMoneyCents("0.07")).toBe(7);
+    expect(parseMoneyCents("19.9")).toBe(1_990);
+    expect(() => parseMoneyCents("1.234")).toThrow();
+    expect(() => parseMoneyCents("-1")).toThrow();
+    expect(formatCents(4_550)).toBe("45.50");
+  });
+
+  it("lets the owner save rates and reference levels; others get a 404", async () => {
+    expect(await outcomeOf(() => save("engineer", good))).toBe("404");
+    expect(await outcomeOf(() => save("client", good))).toBe("404");
+    const res = (await save("owner", good)) as Response;
+    expect(res.headers.get("Location")).toBe("/settings#billing");
+    expect(await getStudioSettings(fixture.studioId)).toMatchObject({
+      currency: "GBP",
+      trackRateCents: 18_000,
+      revisionRateCents: 4_550,
+      normalisationReferences: [
+        { name: "Streaming reference", lufs: -14 },
+        { name: "Night listening", lufs: -18.5 },
+      ],
+    });
+  });
+
+  it("answers field errors with 400 and saves nothing", async () => {
+    const before = await getStudioSettings(fixture.studioId);
+    const bad = dataOf<{ errors: Record<string, string> }>(await save("owner", { ...good, trackRate: "12,50", references: "No level here" }));
+    expect(bad.status).toBe(400);
+    expect(bad.body.errors.trackRate).toMatch(/250\.50/);
+    expect(bad.body.errors.references).toMatch(/Line 1/);
+    const twice = dataOf<{ errors: Record<string, string> }>(await save("owner", { ...good, references: "A: -14\na: -16" }));
+    expect(twice.status).toBe(400);
+    expect(twice.body.errors.references).toMatch(/twice/);
+    expect(await getStudioSettings(fixture.studioId)).toEqual(before);
   });
 });
