@@ -6,7 +6,7 @@
 // meter for peak memory; TIDEMARK_BENCH_LONG=0 skips it.
 
 import { mkdtempSync, rmSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { loadavg, tmpdir } from "node:os";
 import { join } from "node:path";
 import { analyzeFile } from "../dsp/analysis.ts";
 import { BandSplitter } from "../dsp/filters/crossover.ts";
@@ -183,6 +183,8 @@ export async function run(): Promise<void> {
     const durationS = MINUTES * 60;
     await writeTestFile(path, durationS);
     console.log(`analysis: ${MINUTES} min stereo 48 kHz 24-bit file (generated), peak RSS before ${mb(maxRssKb())} MB`);
+    // Figures scale with whatever else runs on the machine: print the load beside them.
+    console.log(`  load average ${loadavg().map((l) => l.toFixed(1)).join(" ")} (1/5/15 min)`);
     await analyzeFile(path); // warm-up (JIT, page cache)
     const t0 = performance.now();
     const a = await analyzeFile(path);
