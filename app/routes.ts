@@ -16,6 +16,9 @@ export default [
     route("renders/:renderId", "routes/api.render.ts"),
     route("renders/:renderId/cancel", "routes/api.render-cancel.ts"),
     route("renders/:renderId/traces", "routes/api.render-traces.ts"),
+    route("renders/:renderId/audio", "routes/api.render-audio.ts"),
+    route("tracks/:trackId/mixes", "routes/api.track-mixes.ts"),
+    route("mixes/:mixId/audio", "routes/api.mix-audio.ts"),
     route("*", "routes/api.not-found.ts"),
   ]),
   // Signed-in pages share the workspace layout with its navigation.

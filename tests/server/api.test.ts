@@ -19,6 +19,10 @@ import * as renderOne from "../../app/routes/api.render.ts";
 import * as renderCancel from "../../app/routes/api.render-cancel.ts";
 import * as renderTraces from "../../app/routes/api.render-traces.ts";
 import * as notFoundRoute from "../../app/routes/api.not-found.ts";
+import * as trackMixes from "../../app/routes/api.track-mixes.ts";
+import * as mixAudio from "../../app/routes/api.mix-audio.ts";
+import * as renderAudio from "../../app/routes/api.render-audio.ts";
+import { addStoredRender, type StoredRender } from "./download-fixture.ts";
 
 process.env.TIDEMARK_QUEUE_NAMESPACE = "test-api";
 
@@ -248,5 +252,94 @@ describe("renders", () => {
 
   it("answers unknown API paths with a JSON 404", async () => {
     expect(await call(notFoundRoute.loader, "engineer", "/api/nothing-here")).toMatchObject({ status: 404, body: { error: "Not found" } });
+  });
+});
+
+/** A canonical 16-bit PCM WAV (RIFF header as in the WAVE format description), stereo 48 kHz, a 1 kHz tone. */
+function toneWav(frames: number): Uint8Array {
+  const data = Buffer.alloc(frames * 4);
+  for (let i = 0; i < frames; i++) {
+    const v = Math.round(8000 * Math.sin((2 * Math.PI * 1000 * i) / 48000));
+    data.writeInt16LE(v, i * 4);
+    data.writeInt16LE(v, i * 4 + 2);
+  }
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0, "ascii");
+  header.writeUInt32LE(36 + data.length, 4);
+  header.write("WAVEfmt ", 8, "ascii");
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(1, 20);
+  header.writeUInt16LE(2, 22);
+  header.writeUInt32LE(48000, 24);
+  header.writeUInt32LE(48000 * 4, 28);
+  header.writeUInt16LE(4, 32);
+  header.writeUInt16LE(16, 34);
+  header.write("data", 36, "ascii");
+  header.writeUInt32LE(data.length, 40);
+  return new Uint8Array(Buffer.concat([header, data]));
+}
+
+describe("mixes and audio", () => {
+  let stored: StoredRender;
+  beforeAll(async () => {
+    stored = await addStoredRender({ studioId: f.studioId, trackId: f.trackId });
+  });
+  afterAll(async () => stored?.cleanup());
+
+  const upload = (who: Who, bytes: Uint8Array, name = "api-upload.wav") => {
+    const headers = new Headers({ "Content-Type": "audio/wav", "X-File-Name": name, "Content-Length": String(bytes.length) });
+    if (who !== "none") headers.set("Authorization", `Bearer ${tokens[who]}`);
+    const request = new Request(`http://tidemark.test/api/tracks/${f.trackId}/mixes`, { method: "POST", headers, body: bytes });
+    return (trackMixes.action as Handler)({ request, params: { trackId: f.trackId }, context: {} });
+  };
+
+  it("uploads a WAV as the next mix version for staff; refuses other files with a reason", async () => {
+    expect((await upload("none", toneWav(4800))).status).toBe(401);
+    expect((await upload("client", toneWav(4800))).status).toBe(404);
+    expect((await upload("otherStudio", toneWav(4800))).status).toBe(404);
+    const refused = await upload("engineer", new TextEncoder().encode("not a wave file at all"));
+    expect(refused.status).toBe(422);
+    expect(await refused.json()).toMatchObject({ error: expect.stringContaining("refused"), fieldErrors: { file: expect.any(String) } });
+    const created = await upload("engineer", toneWav(4800));
+    expect(created.status).toBe(201);
+    const { mix } = await created.json();
+    expect(mix).toMatchObject({ originalName: "api-upload.wav", sampleRateHz: 48000, channels: 2, bitDepth: 16, frames: 4800 });
+    expect(mix).not.toHaveProperty("storageKey");
+    const list = await call(trackMixes.loader, "engineer", `/api/tracks/${f.trackId}/mixes`, { params: { trackId: f.trackId } });
+    expect(list.body.mixes[0].id).toBe(mix.id);
+    expect((await call(trackMixes.loader, "client", `/api/tracks/${f.trackId}/mixes`, { params: { trackId: f.trackId } })).status).toBe(404);
+    const row = await db("mixes").where({ id: mix.id }).first("storage_key");
+    await storage().delete(row.storage_key);
+  });
+
+  it("downloads a render's audio with byte ranges for the release's viewers", async () => {
+    const get = (who: Who, range?: string) => {
+      const headers = new Headers();
+      if (who !== "none") headers.set("Authorization", `Bearer ${tokens[who]}`);
+      if (range) headers.set("Range", range);
+      return (renderAudio.loader as Handler)({ request: new Request(`http://tidemark.test/api/renders/${stored.renderId}/audio`, { headers }), params: { renderId: stored.renderId }, context: {} });
+    };
+    const whole = await get("client");
+    expect(whole.status).toBe(200);
+    expect(Buffer.from(await whole.arrayBuffer()).equals(stored.outputBytes)).toBe(true);
+    const part = await get("engineer", "bytes=100-199");
+    expect(part.status).toBe(206);
+    expect(Buffer.from(await part.arrayBuffer()).equals(stored.outputBytes.subarray(100, 200))).toBe(true);
+    expect((await get("otherStudio")).status).toBe(404);
+    expect((await get("otherClient")).status).toBe(404);
+    expect((await get("none")).status).toBe(401);
+  });
+
+  it("downloads a mix's original for staff only", async () => {
+    const get = (who: Who) => {
+      const headers = new Headers(who === "none" ? {} : { Authorization: `Bearer ${tokens[who]}` });
+      return (mixAudio.loader as Handler)({ request: new Request(`http://tidemark.test/api/mixes/${stored.mixId}/audio`, { headers }), params: { mixId: stored.mixId }, context: {} });
+    };
+    const ok = await get("engineer");
+    expect(ok.status).toBe(200);
+    expect(Buffer.from(await ok.arrayBuffer()).equals(stored.mixBytes)).toBe(true);
+    expect((await get("client")).status).toBe(404);
+    expect((await get("otherStudio")).status).toBe(404);
+    expect((await get("none")).status).toBe(401);
   });
 });

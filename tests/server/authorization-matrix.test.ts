@@ -35,6 +35,9 @@ import * as apiRender from "../../app/routes/api.render.ts";
 import * as apiRenderCancel from "../../app/routes/api.render-cancel.ts";
 import * as apiRenderTraces from "../../app/routes/api.render-traces.ts";
 import * as apiNotFound from "../../app/routes/api.not-found.ts";
+import * as apiRenderAudio from "../../app/routes/api.render-audio.ts";
+import * as apiTrackMixes from "../../app/routes/api.track-mixes.ts";
+import * as apiMixAudio from "../../app/routes/api.mix-audio.ts";
 import * as mixUpload from "../../app/routes/mix-upload.ts";
 import * as downloadMix from "../../app/routes/download.mix.ts";
 import * as renderNew from "../../app/routes/render-new.tsx";
@@ -137,6 +140,11 @@ const cases: Case[] = [
   { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "loader", handler: api(apiRenderCancel.loader), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, expected: everyone("allowed") },
   { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "action", handler: api(apiRenderCancel.action), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, form: {}, expected: releaseStaff },
   { route: "/api/renders/:renderId/traces", file: "routes/api.render-traces.ts", kind: "loader", handler: api(apiRenderTraces.loader), path: () => `/api/renders/${apiRenderId}/traces`, params: rid, expected: releaseViewers },
+  { route: "/api/renders/:renderId/audio", file: "routes/api.render-audio.ts", kind: "loader", handler: api(apiRenderAudio.loader), path: () => `/api/renders/${stored.renderId}/audio`, params: () => ({ renderId: stored.renderId }), expected: releaseViewers },
+  { route: "/api/tracks/:trackId/mixes", file: "routes/api.track-mixes.ts", kind: "loader", handler: api(apiTrackMixes.loader), path: (f) => `/api/tracks/${f.trackId}/mixes`, params: (f) => ({ trackId: f.trackId }), expected: releaseStaff },
+  // A form body is not a WAV: staff get 422, nothing is stored.
+  { route: "/api/tracks/:trackId/mixes", file: "routes/api.track-mixes.ts", kind: "action", handler: api(apiTrackMixes.action), path: (f) => `/api/tracks/${f.trackId}/mixes`, params: (f) => ({ trackId: f.trackId }), form: { file: "" }, expected: releaseStaff },
+  { route: "/api/mixes/:mixId/audio", file: "routes/api.mix-audio.ts", kind: "loader", handler: api(apiMixAudio.loader), path: () => `/api/mixes/${stored.mixId}/audio`, params: () => ({ mixId: stored.mixId }), expected: releaseStaff },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "loader", handler: api(apiNotFound.loader), path: () => "/api/nothing", expected: everyone("404") },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "action", handler: api(apiNotFound.action), path: () => "/api/nothing", form: {}, expected: everyone("404") },
 ];

@@ -1,0 +1,16 @@
+// GET /api/renders/:renderId/audio: a finished preview or print as WAV, with
+// byte ranges; anyone who may see the release (its client too).
+import type { Route } from "./+types/api.render-audio";
+import { apiError, handleApi, requireApiUser } from "../lib/api.server.ts";
+import { renderFor } from "../lib/api-access.server.ts";
+import { downloadName, serveStored } from "../lib/http-range.server.ts";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  return handleApi(async () => {
+    const user = await requireApiUser(request);
+    const { release, track, mix, render } = await renderFor(user, params.renderId);
+    if (render.state !== "done" || !render.output) return apiError(409, `The render has no audio yet (it is ${render.state})`);
+    const name = downloadName([release.title, `${String(track.position).padStart(2, "0")} ${track.title}`, `v${mix.version} ${render.kind} ${render.id.slice(0, 8)}`], "wav");
+    return serveStored(request, render.output.key, { fileName: name, contentType: "audio/wav" });
+  });
+}
