@@ -7,7 +7,7 @@
 // TIDEMARK_BENCH_RENDERS (default 4) and TIDEMARK_BENCH_RENDER_SECONDS (default 60) size part 2.
 // The upload through HTTP is not measured here: the upload route is not built yet.
 // Run: npx tsx bench/pipeline.ts  (or through bench/run.ts)
-import { createReadStream } from "node:fs";
+import { createReadStream, readFileSync } from "node:fs";
 import { mkdtemp, rm, stat } from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
@@ -41,6 +41,17 @@ async function storageWrite(label: string, driver: StorageDriver, filePath: stri
   );
 }
 
+/** CPU seconds used so far by a process and all its threads (Linux /proc; clock ticks assumed 100 Hz); undefined elsewhere. */
+function cpuSeconds(pid: number): number | undefined {
+  try {
+    const fields = readFileSync(`/proc/${pid}/stat`, "utf8").split(") ")[1].split(" ");
+    // After "pid (comm) ": utime and stime are the 12th and 13th fields.
+    return (Number(fields[11]) + Number(fields[12])) / 100;
+  } catch {
+    return undefined;
+  }
+}
+
 async function rendersPerMinute(threads: number, mixId: string, revisionId: string): Promise<number> {
   const worker = await startWorker({ TIDEMARK_QUEUE_NAMESPACE: NAMESPACE, WORKER_THREADS: String(threads), QUEUE_POLL_SECONDS: "0.2" });
   const allDone = (ids: string[]) =>
@@ -55,12 +66,16 @@ async function rendersPerMinute(threads: number, mixId: string, revisionId: stri
     for (let i = 0; i < threads; i++) warmUp.push((await createRender({ mixId, chainRevisionId: revisionId, kind: "preview", region: { startS: 0, endS: 1 } })).id);
     await allDone(warmUp);
     const t0 = performance.now();
+    const cpu0 = cpuSeconds(worker.pid);
     const ids: string[] = [];
     for (let i = 0; i < RENDERS; i++) ids.push((await createRender({ mixId, chainRevisionId: revisionId, kind: "print" })).id);
     await allDone(ids);
     const minutes = (performance.now() - t0) / 60_000;
+    const cpu1 = cpuSeconds(worker.pid);
     const perMinute = RENDERS / minutes;
-    console.log(`renders, ${threads} thread(s): ${RENDERS} prints of ${RENDER_SECONDS} s in ${(minutes * 60).toFixed(1)} s = ${perMinute.toFixed(2)} renders/min`);
+    // CPU time per render does not depend on what else runs on the machine; wall time does.
+    const cpu = cpu0 !== undefined && cpu1 !== undefined ? `; worker CPU ${((cpu1 - cpu0) / RENDERS).toFixed(2)} s per render` : "";
+    console.log(`renders, ${threads} thread(s): ${RENDERS} prints of ${RENDER_SECONDS} s in ${(minutes * 60).toFixed(1)} s = ${perMinute.toFixed(2)} renders/min${cpu} (load average ${os.loadavg()[0].toFixed(1)})`);
     return perMinute;
   } finally {
     await worker.stop();
