@@ -81,9 +81,9 @@ export async function up(knex: Knex): Promise<void> {
     CREATE TABLE renders (
       id uuid PRIMARY KEY DEFAULT gen_random_uuid(),
       mix_id uuid NOT NULL REFERENCES mixes (id) ON DELETE CASCADE,
-      -- NO ACTION (checked at the end of the statement): a revision in use
-      -- cannot be deleted alone, yet deleting a whole studio still cascades.
-      chain_revision_id uuid NOT NULL REFERENCES chain_revisions (id),
+      -- Revisions go only with their chain (a studio or track deleted), and
+      -- the renders made from them go too; NO ACTION here blocked that cascade.
+      chain_revision_id uuid NOT NULL REFERENCES chain_revisions (id) ON DELETE CASCADE,
       kind text NOT NULL CHECK (kind IN ('preview', 'print')),
       -- Seconds into the mix; both NULL on a preview means "the loudest 30 s".
       region_start_s double precision CHECK (region_start_s >= 0),
