@@ -1,4 +1,4 @@
-import { data, Form } from "react-router";
+import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/settings";
 import { z } from "zod";
 import { requireRole, requireUser } from "../lib/auth.server.ts";
@@ -58,6 +58,12 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
           </Form>
         )}
       </div>
+      <p className="mt-6 text-sm">
+        <Link to="/settings/tokens" className="text-accent-deep underline-offset-4 hover:underline">
+          API tokens
+        </Link>{" "}
+        <span className="text-ink-soft">for scripts that use the Tidemark API as you.</span>
+      </p>
     </>
   );
 }

@@ -96,9 +96,14 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
         title={track.title}
         actions={
           staff && (
-            <Link to={`/releases/${release.id}/tracks/${track.id}/edit`} className="btn-quiet">
-              Edit track
-            </Link>
+            <>
+              <Link to={`/releases/${release.id}/tracks/${track.id}/chains/new`} className="btn-quiet">
+                New chain from template
+              </Link>
+              <Link to={`/releases/${release.id}/tracks/${track.id}/edit`} className="btn-quiet">
+                Edit track
+              </Link>
+            </>
           )
         }
       />

@@ -37,7 +37,7 @@ function ErrorText({ id, error }: { id: string; error?: string }) {
 }
 
 function unitText(unit: string) {
-  return unit === ":1" ? "ratio, :1" : unit;
+  return unit;
 }
 
 /** Keeps what was typed: a number when it reads as one, else the text (the server names the problem). */
@@ -81,6 +81,23 @@ function NumberInput({ ctx, path, range, value }: { ctx: Ctx; path: Path; range:
   );
 }
 
+const OPTION_LABELS: Record<string, string> = {
+  peak: "Peak",
+  lowShelf: "Low shelf",
+  highShelf: "High shelf",
+  highPass: "High-pass",
+  lowPass: "Low-pass",
+  notch: "Notch",
+  stereo: "Stereo",
+  mid: "Mid",
+  side: "Side",
+  left: "Left",
+  right: "Right",
+  tpdf: "TPDF",
+  none: "None",
+  "32f": "32-bit float",
+};
+
 function SelectInput({ ctx, path, label, value, options }: { ctx: Ctx; path: Path; label: string; value: unknown; options: readonly (string | number)[] }) {
   const id = useId();
   const error = ctx.errors[key(path)];
@@ -102,7 +119,7 @@ function SelectInput({ ctx, path, label, value, options }: { ctx: Ctx; path: Pat
       >
         {options.map((o) => (
           <option key={String(o)} value={String(o)}>
-            {o === "32f" ? "32-bit float" : String(o)}
+            {OPTION_LABELS[String(o)] ?? String(o)}
           </option>
         ))}
       </select>
