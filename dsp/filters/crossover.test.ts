@@ -99,6 +99,29 @@ describe("BandSplitter (through the processor)", () => {
     expect(run(137)).toEqual(a);
   });
 
+  it("one crossover: the processor's low and high bands are the analytic LR4 (−6.02 dB at fc, Butterworth² elsewhere); reset clears", () => {
+    const fs = 48000;
+    const sp = new BandSplitter(fs, 1, [1000], fs);
+    const c = designLinkwitzRiley4(1000, fs);
+    const imp = new Float64Array(fs);
+    imp[0] = 1;
+    for (let pass = 0; pass < 2; pass++) {
+      sp.split([imp], fs);
+      for (const f of [100, 1000, 5000]) {
+        expect(dftMagnitudeDb(sp.bands[0][0], f, fs)).toBeCloseTo(lr4Db(c, "lowPass", f, fs), 6);
+        expect(dftMagnitudeDb(sp.bands[1][0], f, fs)).toBeCloseTo(lr4Db(c, "highPass", f, fs), 6);
+      }
+      expect(dftMagnitudeDb(sp.bands[0][0], 1000, fs)).toBeCloseTo(-6.02, 2);
+      sp.reset();
+    }
+    // Silence after the impulse decays to exact zeros (no subnormal numbers left in the state).
+    const silent = new Float64Array(fs);
+    sp.split([imp], fs);
+    for (let r = 0; r < 3; r++) sp.split([silent], fs);
+    expect(sp.bands[0][0].every((v) => v === 0)).toBe(true);
+    expect(sp.bands[1][0].every((v) => v === 0)).toBe(true);
+  });
+
   it("rejects bad crossovers", () => {
     expect(() => new BandSplitter(48000, 2, [], 64)).toThrow(RangeError);
     expect(() => new BandSplitter(48000, 2, [1, 2, 3, 4, 5], 64)).toThrow(RangeError);

@@ -30,9 +30,66 @@ export function designLinkwitzRiley4(crossoverHz: number, sampleRate: number): L
 }
 
 interface Stage {
-  low: [Biquad, Biquad];
-  high: [Biquad, Biquad];
+  split: Lr4Split;
   allPass: Biquad[]; // one per lower band, acting on bands[0..k)
+}
+
+// State below this is flushed (as in Biquad) so silence never turns subnormal.
+const FLUSH_BELOW = 1e-30;
+
+/**
+ * One LR4 crossover: low = LP², high = HP², both computed in one pass over the
+ * input (four TDF-II sections per sample), per-channel state.
+ */
+class Lr4Split {
+  private readonly c: Float64Array; // LP b0 b1 b2 a1 a2, HP b0 b1 b2 a1 a2
+  private readonly state: Float64Array; // per channel: 4 sections × 2
+
+  constructor(coeffs: LinkwitzRileyCoeffs, channels: number) {
+    const { lowPass: l, highPass: h } = coeffs;
+    this.c = Float64Array.from([l.b0, l.b1, l.b2, l.a1, l.a2, h.b0, h.b1, h.b2, h.a1, h.a2]);
+    this.state = new Float64Array(8 * channels);
+  }
+
+  reset(): void {
+    this.state.fill(0);
+  }
+
+  /** low[i] = LR4 low of x[i]; x becomes the LR4 high (in place). */
+  run(x: Float64Array, low: Float64Array, ch: number, frames: number): void {
+    const c = this.c;
+    const lb0 = c[0], lb1 = c[1], lb2 = c[2], la1 = c[3], la2 = c[4];
+    const hb0 = c[5], hb1 = c[6], hb2 = c[7], ha1 = c[8], ha2 = c[9];
+    const st = this.state;
+    const o = 8 * ch;
+    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3];
+    let r1 = st[o + 4], r2 = st[o + 5], t1 = st[o + 6], t2 = st[o + 7];
+    for (let i = 0; i < frames; i++) {
+      const v = x[i];
+      const l1 = lb0 * v + p1;
+      p1 = lb1 * v - la1 * l1 + p2;
+      p2 = lb2 * v - la2 * l1;
+      const l2 = lb0 * l1 + q1;
+      q1 = lb1 * l1 - la1 * l2 + q2;
+      q2 = lb2 * l1 - la2 * l2;
+      const h1 = hb0 * v + r1;
+      r1 = hb1 * v - ha1 * h1 + r2;
+      r2 = hb2 * v - ha2 * h1;
+      const h2 = hb0 * h1 + t1;
+      t1 = hb1 * h1 - ha1 * h2 + t2;
+      t2 = hb2 * h1 - ha2 * h2;
+      if (Math.abs(p1) + Math.abs(p2) + Math.abs(q1) + Math.abs(q2) < FLUSH_BELOW) {
+        p1 *= 0; p2 *= 0; q1 *= 0; q2 *= 0;
+      }
+      if (Math.abs(r1) + Math.abs(r2) + Math.abs(t1) + Math.abs(t2) < FLUSH_BELOW) {
+        r1 *= 0; r2 *= 0; t1 *= 0; t2 *= 0;
+      }
+      low[i] = l2;
+      x[i] = h2;
+    }
+    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2;
+    st[o + 4] = r1; st[o + 5] = r2; st[o + 6] = t1; st[o + 7] = t2;
+  }
 }
 
 export class BandSplitter {
@@ -63,8 +120,7 @@ export class BandSplitter {
     this.stages = crossoversHz.map((f, k) => {
       const c = designLinkwitzRiley4(f, sampleRate);
       return {
-        low: [new Biquad(c.lowPass, channels), new Biquad(c.lowPass, channels)],
-        high: [new Biquad(c.highPass, channels), new Biquad(c.highPass, channels)],
+        split: new Lr4Split(c, channels),
         allPass: Array.from({ length: k }, () => new Biquad(c.allPass, channels)),
       };
     });
@@ -80,12 +136,7 @@ export class BandSplitter {
       rest.set(input[ch].subarray(0, frames));
       for (let k = 0; k < this.stages.length; k++) {
         const stage = this.stages[k];
-        const low = this.bands[k][ch];
-        low.set(rest.subarray(0, frames));
-        stage.low[0].processChannel(low, ch, frames);
-        stage.low[1].processChannel(low, ch, frames);
-        stage.high[0].processChannel(rest, ch, frames);
-        stage.high[1].processChannel(rest, ch, frames);
+        stage.split.run(rest, this.bands[k][ch], ch, frames);
         for (let b = 0; b < k; b++) stage.allPass[b].processChannel(this.bands[b][ch], ch, frames);
       }
     }
@@ -93,7 +144,8 @@ export class BandSplitter {
 
   reset(): void {
     for (const s of this.stages) {
-      for (const f of [...s.low, ...s.high, ...s.allPass]) f.reset();
+      s.split.reset();
+      for (const f of s.allPass) f.reset();
     }
   }
 }
