@@ -16,7 +16,7 @@ export function AnalysesTable({ input, output }: { input: unknown; output: unkno
   const a = (input ?? {}) as Analysis;
   const b = (output ?? {}) as Analysis;
   return (
-    <div className="max-w-full overflow-x-auto">
+    <div className="relative max-w-full overflow-x-auto">
       <table className="data-table w-full max-w-xl text-sm" aria-label="Analyses">
         <thead>
           <tr>

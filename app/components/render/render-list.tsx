@@ -17,7 +17,7 @@ export type RenderListRow = {
 
 export function RenderList({ renders, base }: { renders: RenderListRow[]; base: string }) {
   return (
-    <div className="mt-3 max-w-full overflow-x-auto">
+    <div className="relative mt-3 max-w-full overflow-x-auto">
       <table className="data-table w-full text-sm" aria-label="Renders">
         <thead>
           <tr>

@@ -38,10 +38,17 @@ export function RenderTraces({ traces }: { traces: ChartTraces }) {
             </figcaption>
             <div style={{ height: 130 }}>
               <ResponsiveContainer width="100%" height="100%">
-                <AreaChart data={rows} margin={{ top: 4, right: 8, bottom: 0, left: 0 }}>
+                <AreaChart data={rows} margin={{ top: 4, right: 20, bottom: 0, left: 0 }}>
                   <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />
                   <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tickFormatter={timeLabel} tick={tick} />
-                  <YAxis domain={["auto", 0]} width={56} unit=" dB" tick={tick} tickFormatter={(v: number) => `${v}`.replace("-", "−")} />
+                  <YAxis
+                    // At least 1 dB deep, so a stage that hardly acts still reads as "close to 0 dB".
+                    domain={[(min: number) => Math.min(-1, Math.floor(min)), 0]}
+                    allowDecimals={false}
+                    width={40}
+                    tick={tick}
+                    tickFormatter={(v: number) => `${v}`.replace("-", "−")}
+                  />
                   <Tooltip
                     labelFormatter={(t) => timeLabel(Number(t))}
                     formatter={(v, name) => [`${(-Number(v)).toFixed(2)} dB`, String(name)]}
@@ -80,10 +87,10 @@ export function RenderTraces({ traces }: { traces: ChartTraces }) {
         <figcaption className="mb-1 text-sm font-medium">Output short-term loudness (LUFS)</figcaption>
         <div style={{ height: 140 }}>
           <ResponsiveContainer width="100%" height="100%">
-            <LineChart data={loudness} margin={{ top: 4, right: 8, bottom: 0, left: 0 }}>
+            <LineChart data={loudness} margin={{ top: 4, right: 20, bottom: 0, left: 0 }}>
               <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />
               <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} tickFormatter={timeLabel} tick={tick} />
-              <YAxis domain={[-40, 0]} allowDataOverflow width={56} unit=" LUFS" tick={tick} tickFormatter={(v: number) => `${v}`.replace("-", "−")} />
+              <YAxis domain={[-40, 0]} allowDataOverflow width={40} tick={tick} tickFormatter={(v: number) => `${v}`.replace("-", "−")} />
               <Tooltip labelFormatter={(t) => timeLabel(Number(t))} formatter={(v) => [typeof v === "number" ? `${v.toFixed(1)} LUFS` : "—", "short-term"]} contentStyle={{ fontFamily: "var(--font-mono)", fontSize: 12 }} />
               <Line dataKey="lufs" stroke="var(--color-accent)" dot={false} isAnimationActive={false} strokeWidth={1.5} connectNulls={false} />
             </LineChart>

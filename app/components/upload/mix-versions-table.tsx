@@ -16,7 +16,7 @@ export type MixVersionRow = {
 
 export function MixVersionsTable({ mixes, downloadBase }: { mixes: MixVersionRow[]; downloadBase?: string }) {
   return (
-    <div className="mt-3 max-w-full overflow-x-auto">
+    <div className="relative mt-3 max-w-full overflow-x-auto">
       <table className="data-table w-full text-sm" aria-label="Mix versions">
         <thead>
           <tr>
