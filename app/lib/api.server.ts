@@ -48,6 +48,13 @@ export function fieldErrorsOf(issues: readonly { path: readonly PropertyKey[]; m
   return errors;
 }
 
+/** The renderer's chain errors ("stages[2] (compress).ratio") as API field errors under `params.`, first message per path. */
+export function chainFieldErrors(errors: readonly { path: string; message: string }[]): ApiFieldErrors {
+  const out: ApiFieldErrors = {};
+  for (const e of errors) out[`params${e.path ? `.${e.path.replace(/ \([^)]*\)/g, "")}` : ""}`] ??= e.message;
+  return out;
+}
+
 /** The request's JSON body checked by the schema; throws a 400 with field errors otherwise. */
 export async function readJson<S extends z.ZodType>(request: Request, schema: S): Promise<z.output<S>> {
   let body: unknown;

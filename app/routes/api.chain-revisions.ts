@@ -1,10 +1,9 @@
 // GET /api/chains/:chainId/revisions: every revision, newest first, or with
 // ?from=N&to=M the parameter changes between two. POST: a new revision (staff).
 import type { Route } from "./+types/api.chain-revisions";
-import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
+import { apiError, chainFieldErrors, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
 import { chainFor } from "../lib/api-access.server.ts";
 import { STAFF } from "../lib/roles.ts";
-import { editorPath } from "../components/chain/labels.ts";
 import { ChainInvalidError, createRevision, diffParams, listRevisions } from "../models/chain.server.ts";
 import { apiRevisionSchema } from "../schemas/api.ts";
 
@@ -36,7 +35,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       return json({ revision }, 201);
     } catch (error) {
       if (!(error instanceof ChainInvalidError)) throw error;
-      return apiError(400, "The chain is not valid", Object.fromEntries(error.fieldErrors.map((e) => [`params.${editorPath(e.path)}`, e.message])));
+      return apiError(400, "The chain is not valid", chainFieldErrors(error.fieldErrors));
     }
   });
 }

@@ -1,11 +1,10 @@
 // GET /api/chains: the studio's templates, or with ?trackId= a track's chains (staff).
 // POST: a new chain (for a track, or a template) from a template or from parameters.
 import type { Route } from "./+types/api.chains";
-import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
+import { apiError, chainFieldErrors, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
 import { trackFor } from "../lib/api-access.server.ts";
 import { STAFF } from "../lib/roles.ts";
 import { startChain } from "../lib/chain-access.server.ts";
-import { editorPath } from "../components/chain/labels.ts";
 import { createChain, createRevision, listRevisions, listTemplates, listTrackChains, type Chain } from "../models/chain.server.ts";
 import { apiNewChainSchema } from "../schemas/api.ts";
 import { parseChain } from "../../dsp/chain/schema.ts";
@@ -28,7 +27,7 @@ export async function action({ request }: Route.ActionArgs) {
     let chain: Chain | undefined;
     if (input.params !== undefined) {
       const parsed = parseChain(input.params);
-      if (!parsed.ok) return apiError(400, "The chain is not valid", Object.fromEntries(parsed.errors.map((e) => [`params.${editorPath(e.path)}`, e.message])));
+      if (!parsed.ok) return apiError(400, "The chain is not valid", chainFieldErrors(parsed.errors));
       chain = await createChain({ studioId: user.studioId, trackId, name: input.name });
       await createRevision(chain.id, parsed.chain, user.id);
     } else {

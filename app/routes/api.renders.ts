@@ -24,8 +24,10 @@ export async function action({ request }: Route.ActionArgs) {
     if (request.method !== "POST") return methodNotAllowed(["GET", "POST"]);
     const user = await requireApiUser(request, STAFF);
     const input = await readJson(request, apiRenderSchema);
-    const { mix } = await mixFor(user, input.mixId).catch(() => {
-      throw apiError(400, "Some fields are not valid", { mixId: "must be a mix of one of the studio's tracks" });
+    // In a body, a mix the caller may not use is a field error rather than a 404 of the route.
+    const { mix } = await mixFor(user, input.mixId).catch((thrown: unknown) => {
+      if (thrown instanceof Response && thrown.status === 404) throw apiError(400, "Some fields are not valid", { mixId: "must be a mix of one of the studio's tracks" });
+      throw thrown;
     });
     const revision = await revisionForTrack(user, input.chainRevisionId, mix.trackId);
     if (!revision) return apiError(400, "Some fields are not valid", { chainRevisionId: "must be a revision of a studio template or of this track's chain" });

@@ -2,7 +2,7 @@
 // POST: upload a mix as the raw request body (a WAV file; its name in
 // X-File-Name or ?name=), which becomes the track's next version (staff).
 import type { Route } from "./+types/api.track-mixes";
-import { apiError, apiNotFound, handleApi, json, methodNotAllowed, requireApiUser } from "../lib/api.server.ts";
+import { apiError, handleApi, json, methodNotAllowed, requireApiUser } from "../lib/api.server.ts";
 import { trackFor } from "../lib/api-access.server.ts";
 import { mixView } from "../lib/api-views.server.ts";
 import { STAFF } from "../lib/roles.ts";
@@ -21,9 +21,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   return handleApi(async () => {
     if (request.method !== "POST") return methodNotAllowed(["GET", "POST"]);
     const user = await requireApiUser(request, STAFF);
-    const { track } = await trackFor(user, params.trackId).catch(() => {
-      throw apiNotFound();
-    });
+    const { track } = await trackFor(user, params.trackId);
     const declared = request.headers.get("Content-Length");
     const headerName = request.headers.get("X-File-Name");
     const fileName = headerName ? decodeURIComponent(headerName) : new URL(request.url).searchParams.get("name");

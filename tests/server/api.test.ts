@@ -289,7 +289,7 @@ describe("mixes and audio", () => {
   const upload = (who: Who, bytes: Uint8Array, name = "api-upload.wav") => {
     const headers = new Headers({ "Content-Type": "audio/wav", "X-File-Name": name, "Content-Length": String(bytes.length) });
     if (who !== "none") headers.set("Authorization", `Bearer ${tokens[who]}`);
-    const request = new Request(`http://tidemark.test/api/tracks/${f.trackId}/mixes`, { method: "POST", headers, body: bytes });
+    const request = new Request(`http://tidemark.test/api/tracks/${f.trackId}/mixes`, { method: "POST", headers, body: bytes as BodyInit });
     return (trackMixes.action as Handler)({ request, params: { trackId: f.trackId }, context: {} });
   };
 
