@@ -59,7 +59,8 @@ export default function SettingsTokens({ loaderData, actionData }: Route.Compone
       )}
       <FormNotice message={actionData?.revoked ? "Token revoked." : undefined} tone="info" />
       <FormNotice message={actionData?.errors.form} />
-      <Form method="post" noValidate className="card mb-8 max-w-xl space-y-4 p-5">
+      {/* Keyed by the new token, so the name field empties once a token is made. */}
+      <Form key={actionData?.token ?? "new"} method="post" noValidate className="card mb-8 max-w-xl space-y-4 p-5">
         <input type="hidden" name="intent" value="create" />
         <TextField label="Token name" name="name" defaultValue={actionData?.intent === "create" && !actionData.token ? actionData.values.name : ""} error={actionData?.errors.name} />
         <button type="submit" className="btn-primary">
