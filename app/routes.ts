@@ -5,6 +5,12 @@ export default [
   route("sign-in", "routes/sign-in.tsx"),
   route("sign-out", "routes/sign-out.tsx"),
   route("invitations/:token", "routes/invitation.tsx"),
+  route("renders/:renderId/audio", "routes/render-audio.tsx"),
+  route("api/payments/webhook", "routes/api.payments.webhook.ts"),
+  route("releases/:releaseId/package.zip", "routes/release-package.ts"),
+  route("releases/:releaseId/loudness-report.csv", "routes/release-loudness-report.ts"),
+  route("releases/:releaseId/invoice", "routes/release-invoice.ts"),
+  route("settings/billing", "routes/studio-billing.ts"),
   // The JSON API: resource routes, signed in by a bearer token or the session cookie.
   ...prefix("api", [
     route("releases", "routes/api.releases.ts"),
@@ -32,6 +38,7 @@ export default [
       route(":releaseId/tracks/new", "routes/track-new.tsx"),
       route(":releaseId/tracks/:trackId", "routes/track.tsx"),
       route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),
+      route(":releaseId/tracks/:trackId/compare", "routes/compare.tsx"),
       route(":releaseId/tracks/:trackId/mixes", "routes/mix-upload.ts"),
       route(":releaseId/tracks/:trackId/mixes/:mixId/download", "routes/download.mix.ts"),
       route(":releaseId/tracks/:trackId/renders/new", "routes/render-new.tsx"),
