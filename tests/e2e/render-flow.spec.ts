@@ -3,14 +3,13 @@
 // preview through the studio's gentle template (progress, analyses and
 // traces appear without a reload), then a print, downloads it, and the file
 // is a valid WAV whose true peak is at or under the chain's ceiling.
-import { mkdtempSync, rmSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { expect, test, type Page } from "@playwright/test";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { analyzeFile } from "../../dsp/analysis.ts";
-import gentleMaster from "../../examples/gentle-master.json" with { type: "json" };
 import knex from "knex";
 import knexConfig from "../../knexfile.ts";
 import { parseChain } from "../../dsp/chain/schema.ts";
@@ -18,6 +17,9 @@ import { parseChain } from "../../dsp/chain/schema.ts";
 const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
 const TEMPLATE = "Gentle master";
+const gentleMaster = JSON.parse(readFileSync(new URL("../../examples/gentle-master.json", import.meta.url), "utf8")) as {
+  stages: { type: string; ceilingDbtp?: number }[];
+};
 
 async function signIn(page: Page, email: string) {
   await page.goto("/sign-in");
@@ -115,7 +117,7 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
 
     // A refused file: the reader's reason beside the form, nothing added.
     const notWav = path.join(scratch, "notes.wav");
-    (await import("node:fs")).writeFileSync(notWav, "liner notes, not audio\n".repeat(100));
+    writeFileSync(notWav, "liner notes, not audio\n".repeat(100));
     await page.getByLabel("Upload a new mix version (WAV)").setInputFiles(notWav);
     await page.getByRole("button", { name: "Upload", exact: true }).click();
     await expect(page.getByText("The file was refused: not a WAV file")).toBeVisible();

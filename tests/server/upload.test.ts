@@ -34,10 +34,12 @@ beforeAll(async () => {
   // Where the model spools uploads: checked empty after every refusal.
   tmpDir = path.join(scratch, "incoming");
   await mkdir(tmpDir);
+  process.env.UPLOAD_TMP_DIR = tmpDir;
   process.env.WORKER_TMP_DIR = tmpDir;
   goodWav = path.join(scratch, "good.wav");
   await writeTestWav(goodWav, { seconds: 3, swellHz: 1 });
-  worker = await startWorker(queueEnv);
+  // The worker keeps its own scratch folder elsewhere, so this one holds only uploads.
+  worker = await startWorker({ ...queueEnv, WORKER_TMP_DIR: scratch });
 });
 
 afterEach(() => {
@@ -48,6 +50,7 @@ afterAll(async () => {
   await worker?.stop();
   await fixture?.cleanup();
   await rm(scratch, { recursive: true, force: true });
+  delete process.env.UPLOAD_TMP_DIR;
   delete process.env.WORKER_TMP_DIR;
   await stopQueue();
   await db.destroy();
@@ -87,10 +90,15 @@ async function storedFiles(): Promise<string[]> {
   return readdir(path.join(storageDir, "mixes", fixture.trackId)).catch(() => []);
 }
 
+/** Upload spool folders left in the temporary folder. */
+async function spooled(): Promise<string[]> {
+  return (await readdir(tmpDir).catch(() => [] as string[])).filter((name) => name.startsWith("tidemark-upload-"));
+}
+
 async function expectNothingLeft(before: { rows: number; files: string[] }) {
   expect(await mixCount()).toBe(before.rows);
   expect(await storedFiles()).toEqual(before.files);
-  expect(await readdir(tmpDir).catch(() => [])).toEqual([]);
+  expect(await spooled()).toEqual([]);
 }
 
 /** What probeWav says of these bytes, so the route is checked to pass the reader's own reason on. */
@@ -192,7 +200,7 @@ describe("mix upload", () => {
     expect(mix.frames).toBe(3 * 48_000);
     expect(await storedFiles()).toContain(`${mix.id}.wav`);
     expect(await readFile(path.join(storageDir, mix.storageKey))).toEqual(await readFile(goodWav));
-    expect(await readdir(tmpDir)).toEqual([]);
+    expect(await spooled()).toEqual([]);
     const analysed = await waitFor(async () => {
       const now = await getMix(mix.id);
       if (now?.analysisState === "failed") throw new Error(`analysis failed: ${now.analysisError}`);
@@ -220,7 +228,7 @@ describe("mix upload", () => {
   it("answers the form post of a bad file with the message for the page", async () => {
     const before = { rows: await mixCount(), files: await storedFiles() };
     const form = new FormData();
-    form.append("file", new Blob([mp3InWav()]), "compressed.wav");
+    form.append("file", new Blob([new Uint8Array(mp3InWav())]), "compressed.wav");
     const request = new Request(`http://tidemark.test${trackPath()}`, { method: "POST", headers: { Cookie: cookie }, body: form });
     const result = (await track.action({ request, params: params(), context: {} } as never)) as { data: { error: string }; init: { status: number } };
     expect(result.init.status).toBe(422);
