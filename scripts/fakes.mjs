@@ -16,7 +16,7 @@ const FAKES = [
     env: (port) => ({ STRIPE_API_HOST: "127.0.0.1", STRIPE_API_PORT: String(port), STRIPE_API_PROTOCOL: "http" }) },
 ];
 
-export async function startFakes(children, mode) {
+export async function startFakes(children, mode, { publicUrl } = {}) {
   const env = {};
   for (const fake of FAKES) {
     if (!existsSync(path.join(root, fake.script))) continue;
@@ -25,7 +25,7 @@ export async function startFakes(children, mode) {
     if (await portFree(port)) {
       const child = spawn("npx", ["tsx", fake.script], {
         cwd: root,
-        env: { ...process.env, FAKE_PORT: String(port), FAKE_MODE: mode, ...fakeEnv },
+        env: { ...process.env, FAKE_PORT: String(port), FAKE_MODE: mode, ...(publicUrl ? { FAKE_PAYMENTS_WEBHOOK_URL: `${publicUrl}/api/payments/webhook` } : {}), ...fakeEnv },
         stdio: ["ignore", "inherit", "inherit"],
       });
       children.push(child);

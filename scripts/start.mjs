@@ -43,7 +43,8 @@ if (!process.env.DATABASE_URL) {
   ensureDatabase(pg, "tidemark");
   env.DATABASE_URL = databaseUrl("tidemark");
 }
-Object.assign(env, await startFakes(children, "dev"));
+env.TIDEMARK_PUBLIC_URL ??= `http://${env.HOST}:${port}`;
+Object.assign(env, await startFakes(children, "dev", { publicUrl: env.TIDEMARK_PUBLIC_URL }));
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 
 function launch(name, cmd, args) {

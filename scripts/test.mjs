@@ -36,11 +36,12 @@ if (!process.env.DATABASE_URL) {
   env.DATABASE_URL = databaseUrl("tidemark_test");
 }
 if (!servicesOnly) rmSync(env.STORAGE_DIR, { recursive: true, force: true });
-Object.assign(env, await startFakes(children, "test"));
+env.TIDEMARK_PUBLIC_URL ??= `http://127.0.0.1:${webPort}`;
+Object.assign(env, await startFakes(children, "test", { publicUrl: env.TIDEMARK_PUBLIC_URL }));
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 
 if (servicesOnly) {
-  for (const key of ["DATABASE_URL", "SESSION_SECRET", "STORAGE_DIR", "S3_ENDPOINT", "S3_BUCKET", "S3_ACCESS_KEY_ID", "S3_SECRET_ACCESS_KEY", "S3_REGION", "SMTP_URL", "FAKE_SMTP_API", "STRIPE_API_HOST", "STRIPE_API_PORT", "STRIPE_API_PROTOCOL"]) {
+  for (const key of ["TIDEMARK_PUBLIC_URL", "DATABASE_URL", "SESSION_SECRET", "STORAGE_DIR", "S3_ENDPOINT", "S3_BUCKET", "S3_ACCESS_KEY_ID", "S3_SECRET_ACCESS_KEY", "S3_REGION", "SMTP_URL", "FAKE_SMTP_API", "STRIPE_API_HOST", "STRIPE_API_PORT", "STRIPE_API_PROTOCOL"]) {
     if (env[key]) console.log(`export ${key}=${JSON.stringify(env[key])}`);
   }
   log("services are up; Ctrl-C stops them");
