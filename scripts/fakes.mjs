@@ -4,7 +4,7 @@
 // line with "ready" once it does.
 import { existsSync } from "node:fs";
 import path from "node:path";
-import { root, log, spawn, waitForPort, portFree } from "./lib.mjs";
+import { root, log, spawnService, waitForPort, portFree } from "./lib.mjs";
 
 // name → script, port variable, ports for dev and test, environment given to the app
 const FAKES = [
@@ -23,8 +23,7 @@ export async function startFakes(children, mode, { publicUrl } = {}) {
     const port = fake.ports[mode];
     const fakeEnv = fake.env(port, mode);
     if (await portFree(port)) {
-      const child = spawn("npx", ["tsx", fake.script], {
-        cwd: root,
+      const child = spawnService("npx", ["tsx", fake.script], {
         env: { ...process.env, FAKE_PORT: String(port), FAKE_MODE: mode, ...(publicUrl ? { FAKE_PAYMENTS_WEBHOOK_URL: `${publicUrl}/api/payments/webhook` } : {}), ...fakeEnv },
         stdio: ["ignore", "inherit", "inherit"],
       });

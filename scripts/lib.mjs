@@ -114,4 +114,21 @@ export function asPostgres(cmd, args, options = {}) {
   return spawnSync("runuser", ["-u", "postgres", "--", cmd, ...args], { encoding: "utf8", ...options });
 }
 
+/**
+ * Starts a long-running child in its own process group, so that stopping it
+ * also stops what it started (npx and tsx run the real program as a grandchild).
+ */
+export function spawnService(cmd, args, options = {}) {
+  const child = spawn(cmd, args, { cwd: root, detached: true, ...options });
+  child.stopGroup = (signal = "SIGTERM") => {
+    if (child.exitCode !== null || child.signalCode !== null) return;
+    try {
+      process.kill(-child.pid, signal);
+    } catch {
+      child.kill(signal);
+    }
+  };
+  return child;
+}
+
 export { spawn, mkdirSync, chownSync, existsSync };

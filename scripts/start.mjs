@@ -5,7 +5,7 @@
 import { existsSync, readFileSync, writeFileSync, mkdirSync } from "node:fs";
 import { randomBytes } from "node:crypto";
 import path from "node:path";
-import { root, log, fail, run, ensureNodeModules, portFree, spawn } from "./lib.mjs";
+import { root, log, fail, run, ensureNodeModules, portFree, spawnService } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
@@ -18,7 +18,7 @@ ensureNodeModules();
 const children = [];
 let pg = null;
 function stopAll(code = 0) {
-  for (const child of children) if (child.exitCode === null) child.kill("SIGTERM");
+  for (const child of children) child.stopGroup();
   pg?.stop();
   process.exit(code);
 }
@@ -48,7 +48,7 @@ Object.assign(env, await startFakes(children, "dev", { publicUrl: env.TIDEMARK_P
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 
 function launch(name, cmd, args) {
-  const child = spawn(cmd, args, { cwd: root, env, stdio: "inherit" });
+  const child = spawnService(cmd, args, { env, stdio: "inherit" });
   child.on("exit", (code, signal) => {
     if (signal !== "SIGTERM") {
       log(`${name} stopped (${code ?? signal})`);

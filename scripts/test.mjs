@@ -6,7 +6,7 @@
 //   --no-e2e     skip the browser tests
 import { rmSync } from "node:fs";
 import { spawnSync } from "node:child_process";
-import { root, log, run, which, aptInstall, ensureNodeModules, spawn, waitForPort, portFree, fail } from "./lib.mjs";
+import { root, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
@@ -23,7 +23,7 @@ aptInstall(missing);
 const children = [];
 let pg = null;
 function cleanup() {
-  for (const child of children) if (child.exitCode === null) child.kill("SIGTERM");
+  for (const child of children) child.stopGroup();
   pg?.stop();
 }
 process.on("SIGINT", () => { cleanup(); process.exit(130); });
@@ -66,10 +66,11 @@ if (e2e && status === 0) {
   if (status === 0) {
     if (!(await portFree(webPort))) fail(`port ${webPort} is in use; set TEST_PORT`);
     const webEnv = { ...env, NODE_ENV: "production", PORT: String(webPort), HOST: "127.0.0.1", TIDEMARK_INSECURE_COOKIES: "1" };
-    const web = spawn("npx", ["react-router-serve", "./build/server/index.js"], { cwd: root, env: webEnv, stdio: "inherit" });
+    const buildDir = process.env.TIDEMARK_BUILD_DIR ?? "build";
+    const web = spawnService("npx", ["react-router-serve", `./${buildDir}/server/index.js`], { env: webEnv, stdio: "inherit" });
     children.push(web);
     if (await import("node:fs").then((fs) => fs.existsSync(`${root}/app/jobs/worker.server.ts`))) {
-      children.push(spawn("npx", ["tsx", "app/jobs/worker.server.ts"], { cwd: root, env: webEnv, stdio: "inherit" }));
+      children.push(spawnService("npx", ["tsx", "app/jobs/worker.server.ts"], { env: webEnv, stdio: "inherit" }));
     }
     await waitForPort(webPort, 60_000);
     step("playwright", "npx", ["playwright", "test"], { BASE_URL: `http://127.0.0.1:${webPort}` });
