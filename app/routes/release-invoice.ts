@@ -15,7 +15,8 @@ export async function action({ request, params }: { request: Request; params: { 
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const intent = String((await request.formData()).get("intent") ?? "");
   if (!(INTENTS as readonly string[]).includes(intent)) return new Response("Unknown intent", { status: 400 });
-  if (intent !== "pay" && user.role !== "owner") throw notFound();
+  // Invoices are the owner's and the client's business: an engineer may not even open the payment page.
+  if (intent === "pay" ? user.role === "engineer" : user.role !== "owner") throw notFound();
   const page = `/releases/${release.id}`;
   try {
     if (intent === "build") {

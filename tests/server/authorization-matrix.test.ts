@@ -18,6 +18,7 @@ import * as trackNew from "../../app/routes/track-new.tsx";
 import * as track from "../../app/routes/track.tsx";
 import * as trackEdit from "../../app/routes/track-edit.tsx";
 import * as team from "../../app/routes/team.tsx";
+import * as outbox from "../../app/routes/outbox.tsx";
 import * as settings from "../../app/routes/settings.tsx";
 import * as chainNew from "../../app/routes/chain-new.tsx";
 import * as chainPage from "../../app/routes/chain.tsx";
@@ -44,6 +45,13 @@ import * as renderNew from "../../app/routes/render-new.tsx";
 import * as renderPage from "../../app/routes/render.tsx";
 import * as renderProgress from "../../app/routes/render-progress.ts";
 import * as downloadRender from "../../app/routes/download.render.ts";
+import * as renderAudio from "../../app/routes/render-audio.tsx";
+import * as compare from "../../app/routes/compare.tsx";
+import * as paymentsWebhook from "../../app/routes/api.payments.webhook.ts";
+import * as releasePackage from "../../app/routes/release-package.ts";
+import * as loudnessReport from "../../app/routes/release-loudness-report.ts";
+import * as releaseInvoice from "../../app/routes/release-invoice.ts";
+import * as studioBilling from "../../app/routes/studio-billing.ts";
 import { addStoredRender, type StoredRender } from "./download-fixture.ts";
 
 type Expect = Record<Persona, Outcome>;
@@ -56,14 +64,21 @@ const staff: Expect = { signedOut: "sign-in", otherClient: "404", client: "404",
 const releaseViewers: Expect = { signedOut: "sign-in", otherClient: "404", client: "allowed", engineer: "allowed", owner: "allowed", otherStudio: "404" };
 const releaseStaff: Expect = { ...releaseViewers, client: "404" };
 const ownerOnly: Expect = { ...everyone("404"), signedOut: "sign-in", owner: "allowed" };
+// The release's owner and its client: invoices are no engineer's business.
+const releaseBilling: Expect = { ...releaseViewers, engineer: "404" };
+const releaseOwner: Expect = { ...releaseStaff, engineer: "404" };
 
 type Handler = (args: { request: Request; params: Record<string, string>; context: unknown }) => Promise<unknown>;
-type Case = { route: string; file: string; kind: "loader" | "action"; handler: Handler; path: (f: Fixture) => string; params?: (f: Fixture) => Record<string, string>; form?: Record<string, string>; expected: Expect };
+type Case = { route: string; file: string; kind: "loader" | "action"; handler: Handler; path: (f: Fixture) => string; params?: (f: Fixture) => Record<string, string>; form?: Record<string, string> | (() => Record<string, string>); expected: Expect };
 
 let fixture: Fixture;
 let invitationToken: string;
 let trackChainId: string;
 let apiRenderId: string;
+// A second finished render, sent to the client for review (the first one is not).
+let reviewed: StoredRender;
+// Another release of the first client, whose invoice is paid.
+let paidReleaseId: string;
 
 // API routes answer with a JSON status instead of throwing: 401 reads as "sign-in", 404 as "404".
 const api =
@@ -72,6 +87,14 @@ const api =
     const response = (await (handler as Handler)(args)) as Response;
     if (response.status === 404) throw response;
     if (response.status === 401) throw new Response(null, { status: 302, headers: { Location: "/sign-in" } });
+    return response;
+  };
+/** The handler must answer exactly this status (for routes whose outcome is "allowed" for everyone). */
+const answers =
+  (status: number, handler: unknown): Handler =>
+  async (args) => {
+    const response = (await (handler as Handler)(args)) as Response;
+    if (response.status !== status) throw new Error(`expected ${status}, got ${response.status}`);
     return response;
   };
 const rid = () => ({ renderId: apiRenderId });
@@ -104,6 +127,7 @@ const cases: Case[] = [
   { route: "/releases/:releaseId/tracks/:trackId/edit", file: "routes/track-edit.tsx", kind: "action", handler: trackEdit.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/edit`, params: trk, form: { title: "" }, expected: releaseStaff },
   { route: "/team", file: "routes/team.tsx", kind: "loader", handler: team.loader as Handler, path: () => "/team", expected: ownerOnly },
   { route: "/team", file: "routes/team.tsx", kind: "action", handler: team.action as Handler, path: () => "/team", form: { intent: "invite", email: "" }, expected: ownerOnly },
+  { route: "/outbox", file: "routes/outbox.tsx", kind: "loader", handler: outbox.loader as Handler, path: () => "/outbox", expected: ownerOnly },
   { route: "/settings", file: "routes/settings.tsx", kind: "loader", handler: settings.loader as Handler, path: () => "/settings", expected: signedIn },
   { route: "/settings", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "profile", name: "" }, expected: signedIn },
   { route: "/settings (studio)", file: "routes/settings.tsx", kind: "action", handler: settings.action as Handler, path: () => "/settings", form: { intent: "studio", name: "" }, expected: ownerOnly },
@@ -145,6 +169,27 @@ const cases: Case[] = [
   // A form body is not a WAV: staff get 422, nothing is stored.
   { route: "/api/tracks/:trackId/mixes", file: "routes/api.track-mixes.ts", kind: "action", handler: api(apiTrackMixes.action), path: (f) => `/api/tracks/${f.trackId}/mixes`, params: (f) => ({ trackId: f.trackId }), form: { file: "" }, expected: releaseStaff },
   { route: "/api/mixes/:mixId/audio", file: "routes/api.mix-audio.ts", kind: "loader", handler: api(apiMixAudio.loader), path: () => `/api/mixes/${stored.mixId}/audio`, params: () => ({ mixId: stored.mixId }), expected: releaseStaff },
+  // The player's audio: a client hears only renders sent to them for review.
+  { route: "/renders/:renderId/audio (not sent)", file: "routes/render-audio.tsx", kind: "loader", handler: renderAudio.loader as Handler, path: () => `/renders/${stored.renderId}/audio`, params: () => ({ renderId: stored.renderId }), expected: releaseStaff },
+  { route: "/renders/:renderId/audio (sent for review)", file: "routes/render-audio.tsx", kind: "loader", handler: renderAudio.loader as Handler, path: () => `/renders/${reviewed.renderId}/audio`, params: () => ({ renderId: reviewed.renderId }), expected: releaseViewers },
+  { route: "…/tracks/:trackId/compare", file: "routes/compare.tsx", kind: "loader", handler: compare.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, expected: releaseViewers },
+  // A comment without a time: 400 for whoever may hear the render; a render the viewer may not hear is a 404.
+  { route: "…/tracks/:trackId/compare (not sent)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
+  { route: "…/tracks/:trackId/compare (sent for review)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
+  // A public endpoint: the session plays no part, the signature is the credential.
+  // "allowed" here means an answer that is neither a redirect nor a 404 — and
+  // `answers(400)` makes sure it is the 400 for a missing signature, for everyone.
+  { route: "/api/payments/webhook", file: "routes/api.payments.webhook.ts", kind: "action", handler: answers(400, paymentsWebhook.action), path: () => "/api/payments/webhook", form: { type: "checkout.session.completed" }, expected: everyone("allowed") },
+  // Nothing is delivered in the fixture, so whoever passes the checks gets the
+  // returned "nothing delivered yet" answer (allowed); outsiders the thrown 404.
+  { route: "/releases/:releaseId/package.zip (unpaid)", file: "routes/release-package.ts", kind: "loader", handler: releasePackage.loader as Handler, path: (f) => `/releases/${f.releaseId}/package.zip`, params: rel, expected: { ...releaseViewers, client: "refused" } },
+  { route: "/releases/:releaseId/package.zip (paid)", file: "routes/release-package.ts", kind: "loader", handler: releasePackage.loader as Handler, path: () => `/releases/${paidReleaseId}/package.zip`, params: () => ({ releaseId: paidReleaseId }), expected: releaseViewers },
+  { route: "/releases/:releaseId/loudness-report.csv", file: "routes/release-loudness-report.ts", kind: "loader", handler: loudnessReport.loader as Handler, path: (f) => `/releases/${f.releaseId}/loudness-report.csv`, params: rel, expected: releaseViewers },
+  // No invoice exists, so each allowed step comes back to the release page with ?invoiceError=…; nothing changes.
+  { route: "/releases/:releaseId/invoice (send)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "send" }, expected: releaseOwner },
+  { route: "/releases/:releaseId/invoice (void)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "void" }, expected: releaseOwner },
+  { route: "/releases/:releaseId/invoice (pay)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "pay" }, expected: releaseBilling },
+  { route: "/settings/billing", file: "routes/studio-billing.ts", kind: "action", handler: studioBilling.action as Handler, path: () => "/settings/billing", form: { currency: "" }, expected: ownerOnly },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "loader", handler: api(apiNotFound.loader), path: () => "/api/nothing", expected: everyone("404") },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "action", handler: api(apiNotFound.action), path: () => "/api/nothing", form: {}, expected: everyone("404") },
 ];
@@ -161,11 +206,17 @@ beforeAll(async () => {
   const [revision] = await db("chain_revisions").where({ chain_id: trackChainId }).select("id");
   const [queued] = await db("renders").insert({ mix_id: stored.mixId, chain_revision_id: revision.id, kind: "print" }).returning("id");
   apiRenderId = queued.id;
+  reviewed = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
+  await db("review_requests").insert({ track_id: fixture.trackId, render_id: reviewed.renderId, sent_by: fixture.users.owner.id });
+  const [paid] = await db("releases").insert({ studio_id: fixture.studioId, client_id: fixture.clientId, title: `Paid single ${fixture.tag}`, kind: "single" }).returning("id");
+  paidReleaseId = paid.id;
+  await db("invoices").insert({ studio_id: fixture.studioId, release_id: paidReleaseId, number: `M-${fixture.tag}`, currency: "EUR", state: "paid", total_cents: 100, sent_at: db.fn.now(), paid_at: db.fn.now() });
   ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
 });
 afterAll(async () => {
   // Renders hold their chain revision (NO ACTION), so they go before the studio's cascade.
   if (apiRenderId) await db("renders").where({ id: apiRenderId }).delete();
+  await reviewed?.cleanup();
   await stored?.cleanup();
   await destroyFixture(fixture);
 });
@@ -187,7 +238,7 @@ describe("authorisation matrix", () => {
     it(`${c.kind} ${c.route}`, async () => {
       const actual = {} as Expect;
       for (const persona of PERSONAS) {
-        const request = requestAs(fixture, persona, c.path(fixture), c.kind === "action" ? { form: c.form ?? {} } : {});
+        const request = requestAs(fixture, persona, c.path(fixture), c.kind === "action" ? { form: (typeof c.form === "function" ? c.form() : c.form) ?? {} } : {});
         actual[persona] = await outcomeOf(() => c.handler({ request, params: c.params?.(fixture) ?? {}, context: {} }));
       }
       expect(actual).toEqual(c.expected);
@@ -210,9 +261,9 @@ describe("authorisation matrix", () => {
   it("lists only the client's own releases on a client's dashboard", async () => {
     const request = requestAs(fixture, "client", "/");
     const data = (await dashboard.loader({ request, params: {}, context: {} } as never)) as { releases: { id: string }[] };
-    expect(data.releases.map((r) => r.id)).toEqual([fixture.releaseId]);
+    expect(new Set(data.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, paidReleaseId]));
     const staffData = (await dashboard.loader({ request: requestAs(fixture, "engineer", "/"), params: {}, context: {} } as never)) as { releases: { id: string }[] };
-    expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId]));
+    expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId, paidReleaseId]));
   });
 
   it("sends a signed-out visitor to sign-in with the way back", async () => {

@@ -108,17 +108,21 @@ export function requestAs(fixture: Fixture, persona: Persona, path: string, init
   return new Request(`http://tidemark.test${path}`, { method, headers, body });
 }
 
-export type Outcome = "allowed" | "404" | "sign-in" | "home";
+// "refused": a 403 with a message, for a person who may see the record but not
+// yet take this step (e.g. a client's final files before the invoice is paid).
+export type Outcome = "allowed" | "404" | "sign-in" | "home" | "refused";
 
 /** What a loader or action did, in the terms of the authorisation matrix. */
 export async function outcomeOf(run: () => Promise<unknown>): Promise<Outcome> {
   try {
     const result = await run();
     if (result instanceof Response && result.status >= 300 && result.status < 400) return redirectOutcome(result);
+    if (result instanceof Response && result.status === 403) return "refused";
     return "allowed";
   } catch (thrown) {
     if (thrown instanceof Response) {
       if (thrown.status === 404) return "404";
+      if (thrown.status === 403) return "refused";
       if (thrown.status >= 300 && thrown.status < 400) return redirectOutcome(thrown);
     }
     throw thrown;

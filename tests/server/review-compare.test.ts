@@ -130,7 +130,17 @@ describe("render audio", () => {
     expect(part.status).toBe(206);
     expect(part.headers.get("Content-Range")).toBe(`bytes 100-199/${wavBytes.length}`);
     expect(new Uint8Array(await part.arrayBuffer())).toEqual(wavBytes.slice(100, 200));
-    expect((await audio("engineer", renders.preview, "bytes=9000-")).status).toBe(416);
+    expect(whole.headers.get("Accept-Ranges")).toBe("bytes");
+    expect(whole.headers.get("Content-Length")).toBe(String(wavBytes.length));
+    expect(part.headers.get("Content-Length")).toBe("100");
+    // A suffix range: the last 100 bytes.
+    const tail = await audio("engineer", renders.preview, "bytes=-100");
+    expect(tail.status).toBe(206);
+    expect(tail.headers.get("Content-Range")).toBe(`bytes ${wavBytes.length - 100}-${wavBytes.length - 1}/${wavBytes.length}`);
+    expect(new Uint8Array(await tail.arrayBuffer())).toEqual(wavBytes.slice(-100));
+    const beyond = await audio("engineer", renders.preview, "bytes=9000-");
+    expect(beyond.status).toBe(416);
+    expect(beyond.headers.get("Content-Range")).toBe(`bytes */${wavBytes.length}`);
     expect(await outcomeOf(() => audio("otherStudio", renders.preview))).toBe("404");
     expect(await outcomeOf(() => audio("signedOut", renders.preview))).toBe("sign-in");
   });
