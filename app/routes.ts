@@ -10,7 +10,6 @@ export default [
   route("releases/:releaseId/package.zip", "routes/release-package.ts"),
   route("releases/:releaseId/loudness-report.csv", "routes/release-loudness-report.ts"),
   route("releases/:releaseId/invoice", "routes/release-invoice.ts"),
-  route("settings/billing", "routes/studio-billing.ts"),
   // The JSON API: resource routes, signed in by a bearer token or the session cookie.
   ...prefix("api", [
     route("releases", "routes/api.releases.ts"),
@@ -35,6 +34,8 @@ export default [
       route("new", "routes/release-new.tsx"),
       route(":releaseId", "routes/release.tsx"),
       route(":releaseId/edit", "routes/release-edit.tsx"),
+      route(":releaseId/delivery", "routes/release-delivery.tsx"),
+      route(":releaseId/loudness-report", "routes/loudness-report.tsx"),
       route(":releaseId/tracks/new", "routes/track-new.tsx"),
       route(":releaseId/tracks/:trackId", "routes/track.tsx"),
       route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),
@@ -50,6 +51,7 @@ export default [
     route("team", "routes/team.tsx"),
     route("settings", "routes/settings.tsx"),
     route("settings/tokens", "routes/settings-tokens.tsx"),
+    route("settings/billing", "routes/settings-billing-page.tsx"),
     route("templates", "routes/templates.tsx"),
     route("chains/:chainId", "routes/chain.tsx"),
   ]),

@@ -1,7 +1,7 @@
 // The job queue: pg-boss 10 in the application's PostgreSQL, in its own
-// schema "pgboss" (pg-boss creates and migrates it on start). Two queues:
-// "render" (a render row through the renderer) and "analyze-mix" (a new mix
-// version's analysis). A job carries only the id of its row; the row is the
+// schema "pgboss" (pg-boss creates and migrates it on start). Three queues:
+// "render" (a render row through the renderer), "analyze-mix" (a new mix
+// version's analysis) and "deliver" (a delivery row through makeDelivery). A job carries only the id of its row; the row is the
 // truth about its state, the job only about who may work on it and when.
 //
 // TIDEMARK_QUEUE_NAMESPACE gives the queues a suffix, so that test files
@@ -24,6 +24,7 @@ export type QueueSettings = {
   databaseUrl: string;
   renderQueue: string;
   analyzeQueue: string;
+  deliverQueue: string;
   retryLimit: number;
   retryDelaySeconds: number;
   renderExpireSeconds?: number;
@@ -37,6 +38,7 @@ export function queueSettings(source: Record<string, string | undefined> = proce
     databaseUrl: env.DATABASE_URL,
     renderQueue: `render${suffix}`,
     analyzeQueue: `analyze-mix${suffix}`,
+    deliverQueue: `deliver${suffix}`,
     retryLimit: env.RENDER_JOB_RETRY_LIMIT,
     retryDelaySeconds: env.RENDER_JOB_RETRY_DELAY_SECONDS,
     renderExpireSeconds: env.RENDER_JOB_EXPIRE_SECONDS,
@@ -49,6 +51,7 @@ export type AnalyzeJobData = { mixId: string };
 
 export const renderJobData = z.object({ renderId: z.uuid() });
 export const analyzeJobData = z.object({ mixId: z.uuid() });
+export const deliverJobData = z.object({ deliveryId: z.uuid() });
 
 const MAX_EXPIRE_SECONDS = 23 * 3600;
 
@@ -82,7 +85,7 @@ export async function startBoss(settings: QueueSettings, options: BossOptions = 
   });
   boss.on("error", (error) => console.error(`[tidemark] queue: ${error.message}`));
   await boss.start();
-  for (const name of [settings.renderQueue, settings.analyzeQueue]) {
+  for (const name of [settings.renderQueue, settings.analyzeQueue, settings.deliverQueue]) {
     await boss.createQueue(name, { name, retryLimit: settings.retryLimit, retryDelay: settings.retryDelaySeconds });
   }
   return boss;
@@ -131,6 +134,19 @@ export async function enqueueAnalyzeMix(mixId: string, audioSeconds: number): Pr
     expireInSeconds: settings.analyzeExpireSeconds ?? expireSecondsFor(audioSeconds, 1),
   });
   if (!id) throw new Error("the queue refused the analysis job");
+  return id;
+}
+
+/** One delivery file (a print through a delivery format): about two render passes (resample, limit). */
+export async function enqueueDelivery(deliveryId: string, audioSeconds: number): Promise<string> {
+  const settings = queueSettings();
+  const boss = await queue();
+  const id = await boss.send(settings.deliverQueue, { deliveryId }, {
+    retryLimit: settings.retryLimit,
+    retryDelay: settings.retryDelaySeconds,
+    expireInSeconds: settings.renderExpireSeconds ?? expireSecondsFor(audioSeconds, 2),
+  });
+  if (!id) throw new Error("the queue refused the delivery job");
   return id;
 }
 

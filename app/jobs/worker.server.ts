@@ -14,6 +14,7 @@ import { z } from "zod";
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { runAnalyzeJob } from "./analyze-job.server.ts";
+import { runDeliveryJob } from "./delivery-job.server.ts";
 import { queueSettings, startBoss } from "./queue.server.ts";
 import { runRenderJob } from "./render-job.server.ts";
 import { sweep } from "./sweeper.server.ts";
@@ -92,9 +93,9 @@ const pause = (ms: number) =>
     wakers.add(done);
   });
 
-async function nextJob(): Promise<{ job: PgBoss.JobWithMetadata<unknown>; kind: "analyze" | "render" } | undefined> {
+async function nextJob(): Promise<{ job: PgBoss.JobWithMetadata<unknown>; kind: "analyze" | "render" | "deliver" } | undefined> {
   // Analyses first: they are short and an engineer waits for them after each upload.
-  for (const [name, kind] of [[settings.analyzeQueue, "analyze"], [settings.renderQueue, "render"]] as const) {
+  for (const [name, kind] of [[settings.analyzeQueue, "analyze"], [settings.renderQueue, "render"], [settings.deliverQueue, "deliver"]] as const) {
     const [job] = await boss.fetch<unknown>(name, { includeMetadata: true, batchSize: 1 });
     if (job) return { job, kind };
   }
@@ -119,6 +120,7 @@ async function slot(): Promise<void> {
     const started = Date.now();
     try {
       if (next.kind === "render") await runRenderJob(next.job, ctx);
+      else if (next.kind === "deliver") await runDeliveryJob(next.job, ctx);
       else await runAnalyzeJob(next.job, ctx);
       log(`${next.kind} job ${next.job.id} (try ${next.job.retryCount + 1}) ended after ${Date.now() - started} ms`);
     } catch (error) {

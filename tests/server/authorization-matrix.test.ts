@@ -51,8 +51,10 @@ import * as paymentsWebhook from "../../app/routes/api.payments.webhook.ts";
 import * as releasePackage from "../../app/routes/release-package.ts";
 import * as loudnessReport from "../../app/routes/release-loudness-report.ts";
 import * as releaseInvoice from "../../app/routes/release-invoice.ts";
-import * as studioBilling from "../../app/routes/studio-billing.ts";
 import { addStoredRender, type StoredRender } from "./download-fixture.ts";
+import * as releaseDelivery from "../../app/routes/release-delivery.tsx";
+import * as loudnessReportPage from "../../app/routes/loudness-report.tsx";
+import * as settingsBillingPage from "../../app/routes/settings-billing-page.tsx";
 
 type Expect = Record<Persona, Outcome>;
 const everyone = (outcome: Outcome): Expect => Object.fromEntries(PERSONAS.map((p) => [p, outcome])) as Expect;
@@ -189,9 +191,13 @@ const cases: Case[] = [
   { route: "/releases/:releaseId/invoice (send)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "send" }, expected: releaseOwner },
   { route: "/releases/:releaseId/invoice (void)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "void" }, expected: releaseOwner },
   { route: "/releases/:releaseId/invoice (pay)", file: "routes/release-invoice.ts", kind: "action", handler: releaseInvoice.action as Handler, path: (f) => `/releases/${f.releaseId}/invoice`, params: rel, form: { intent: "pay" }, expected: releaseBilling },
-  { route: "/settings/billing", file: "routes/studio-billing.ts", kind: "action", handler: studioBilling.action as Handler, path: () => "/settings/billing", form: { currency: "" }, expected: ownerOnly },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "loader", handler: api(apiNotFound.loader), path: () => "/api/nothing", expected: everyone("404") },
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "action", handler: api(apiNotFound.action), path: () => "/api/nothing", form: {}, expected: everyone("404") },
+  { route: "/releases/:releaseId/delivery", file: "routes/release-delivery.tsx", kind: "loader", handler: releaseDelivery.loader as Handler, path: (f) => `/releases/${f.releaseId}/delivery`, params: rel, expected: releaseStaff },
+  { route: "/releases/:releaseId/delivery", file: "routes/release-delivery.tsx", kind: "action", handler: releaseDelivery.action as Handler, path: (f) => `/releases/${f.releaseId}/delivery`, params: rel, form: { intent: "add-format", name: "" }, expected: releaseStaff },
+  { route: "/releases/:releaseId/loudness-report", file: "routes/loudness-report.tsx", kind: "loader", handler: loudnessReportPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/loudness-report`, params: rel, expected: releaseViewers },
+  { route: "/settings/billing", file: "routes/settings-billing-page.tsx", kind: "loader", handler: settingsBillingPage.loader as Handler, path: () => "/settings/billing", expected: ownerOnly },
+  { route: "/settings/billing", file: "routes/settings-billing-page.tsx", kind: "action", handler: settingsBillingPage.action as Handler, path: () => "/settings/billing", form: { currency: "" }, expected: ownerOnly },
 ];
 
 let stored: StoredRender;

@@ -1,0 +1,110 @@
+// /releases/:releaseId/loudness-report — the release's loudness report as a
+// page: every track × format with integrated loudness, loudness range, true
+// peak, PLR and how far each of the studio's reference levels would turn it
+// down; with the CSV download and a layout for printing.
+import { Link } from "react-router";
+import type { Route } from "./+types/loudness-report";
+import { requireReleaseAccess } from "../lib/auth.server.ts";
+import { loudnessReport } from "../models/delivery.server.ts";
+import { PageHeader } from "../components/page-header.tsx";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { release } = await requireReleaseAccess(request, params.releaseId);
+  return { release: { id: release.id, title: release.title, clientName: release.clientName }, report: await loudnessReport(release.id) };
+}
+
+const fixed = (v: number | null, decimals: number) => (v === null ? "—" : v.toFixed(decimals).replace("-", "−"));
+
+// Printing drops the navigation and the buttons and keeps the table on paper width.
+const PRINT_CSS = `@media print {
+  nav, header nav, .no-print { display: none !important; }
+  .report-table { font-size: 9pt; }
+  .report-table th, .report-table td { padding: 2pt 4pt; }
+  .card { box-shadow: none !important; border: 0 !important; }
+  body { background: #fff !important; }
+}`;
+
+export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
+  const { release, report } = loaderData;
+  return (
+    <>
+      <style>{PRINT_CSS}</style>
+      <PageHeader
+        eyebrow={
+          <Link to={`/releases/${release.id}`}>
+            {release.clientName} · {release.title}
+          </Link>
+        }
+        title="Loudness report"
+        actions={
+          <span className="no-print flex flex-wrap gap-2">
+            <a href={`/releases/${release.id}/loudness-report.csv`} className="btn-quiet" download>
+              Download CSV
+            </a>
+            <button type="button" className="btn-quiet" onClick={() => window.print()}>
+              Print
+            </button>
+          </span>
+        }
+      />
+      <p className="mb-4 max-w-3xl text-sm text-ink-soft">
+        Measured on the delivered files (ITU-R BS.1770-4 loudness, EBU Tech 3342 loudness range, true peak). PLR is true peak minus integrated loudness. The turn-down columns show how far a
+        player that normalises to each reference level would lower the track; quieter tracks are assumed not to be raised.
+      </p>
+      {report.rows.length === 0 ? (
+        <p className="card px-5 py-8 text-center text-ink-soft">No tracks yet.</p>
+      ) : (
+        <div className="card overflow-x-auto">
+          <table className="data-table report-table" aria-label="Loudness report">
+            <thead>
+              <tr>
+                <th scope="col">Track</th>
+                <th scope="col">Format</th>
+                <th scope="col" className="text-right">
+                  Integrated (LUFS)
+                </th>
+                <th scope="col" className="text-right">
+                  LRA (LU)
+                </th>
+                <th scope="col" className="text-right">
+                  True peak (dBTP)
+                </th>
+                <th scope="col" className="text-right">
+                  PLR (dB)
+                </th>
+                {report.references.map((r) => (
+                  <th scope="col" key={r.name} className="text-right">
+                    Turn-down at {r.name} <span className="num">{fixed(r.lufs, 0)}</span> LUFS (dB)
+                  </th>
+                ))}
+                <th scope="col">Warnings</th>
+              </tr>
+            </thead>
+            <tbody>
+              {report.rows.map((row) => (
+                <tr key={`${row.position} ${row.format}`}>
+                  <td>
+                    <span className="num text-ink-soft">{row.position}.</span> {row.title}
+                  </td>
+                  <td>{row.format}</td>
+                  <td className="num text-right">{fixed(row.integratedLufs, 1)}</td>
+                  <td className="num text-right">{fixed(row.loudnessRangeLu, 1)}</td>
+                  <td className="num text-right">{fixed(row.truePeakDbtp, 2)}</td>
+                  <td className="num text-right">{fixed(row.plrDb, 1)}</td>
+                  {row.turnDownDb.map((v, i) => (
+                    <td key={report.references[i]!.name} className="num text-right">
+                      {fixed(v, 1)}
+                    </td>
+                  ))}
+                  <td className="text-sm">{row.warnings.length > 0 ? row.warnings.join("; ") : "none"}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      )}
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `Loudness report · ${data?.release.title ?? "Release"} · Tidemark` }];

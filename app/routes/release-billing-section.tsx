@@ -1,0 +1,142 @@
+// The release page's invoice and final files: the owner builds, sends and
+// voids the invoice; the client pays it on the hosted payment page; the
+// final files (package, deliveries) open to the client once it is paid.
+import { Form, Link } from "react-router";
+import { formatCents } from "../lib/billing/settings-form.ts";
+import type { ReleaseBilling } from "./release-billing.server.ts";
+
+const money = (cents: number, currency: string) => `${formatCents(cents)} ${currency}`;
+
+const STATE_LABEL = { draft: "Draft", sent: "Sent, awaiting payment", paid: "Paid", void: "Void" } as const;
+
+export function ReleaseBillingSection({ releaseId, billing }: { releaseId: string; billing: ReleaseBilling }) {
+  const { invoice, role } = billing;
+  const owner = role === "owner";
+  const action = `/releases/${releaseId}/invoice`;
+  return (
+    <>
+      <section id="invoice" aria-labelledby="invoice-heading" className="mt-8">
+        <h2 id="invoice-heading" className="mb-2 text-lg font-semibold">
+          Invoice
+        </h2>
+        {billing.invoiceError && (
+          <p className="mb-3 text-sm text-danger" role="alert">
+            {billing.invoiceError}
+          </p>
+        )}
+        {billing.returnedFromPayment && invoice?.state !== "paid" && (
+          <p className="mb-3 text-sm text-ink-soft" role="status">
+            Thank you. The payment is being confirmed; reload this page in a moment.
+          </p>
+        )}
+        {!invoice ? (
+          <div className="card p-5 text-sm text-ink-soft">
+            <p>{owner ? "No invoice yet. Building one bills every track at the studio's rate, and each extra printed revision." : "No invoice yet."}</p>
+            {owner && (
+              <div className="mt-3 flex flex-wrap gap-3">
+                <Form method="post" action={action}>
+                  <button type="submit" name="intent" value="build" className="btn-primary">
+                    Build invoice
+                  </button>
+                </Form>
+                <Link to="/settings/billing" className="btn-quiet">
+                  Rates
+                </Link>
+              </div>
+            )}
+          </div>
+        ) : (
+          <div className="card p-5" data-invoice-state={invoice.state}>
+            <p className="mb-3 text-sm">
+              {invoice.number ? <span className="num font-medium">{invoice.number}</span> : "Unnumbered draft"} · <strong>{STATE_LABEL[invoice.state]}</strong>
+            </p>
+            <div className="overflow-x-auto">
+              <table className="data-table" aria-label="Invoice lines">
+                <thead>
+                  <tr>
+                    <th scope="col">Item</th>
+                    <th scope="col" className="text-right">
+                      Qty
+                    </th>
+                    <th scope="col" className="text-right">
+                      Unit
+                    </th>
+                    <th scope="col" className="text-right">
+                      Amount
+                    </th>
+                  </tr>
+                </thead>
+                <tbody>
+                  {invoice.lines.map((l) => (
+                    <tr key={l.id}>
+                      <td>{l.description}</td>
+                      <td className="num text-right">{l.quantity}</td>
+                      <td className="num whitespace-nowrap text-right">{money(l.unitCents, invoice.currency)}</td>
+                      <td className="num whitespace-nowrap text-right">{money(l.amountCents, invoice.currency)}</td>
+                    </tr>
+                  ))}
+                </tbody>
+                <tfoot>
+                  <tr>
+                    <th scope="row" colSpan={3} className="text-right">
+                      Total
+                    </th>
+                    <td className="num whitespace-nowrap text-right font-semibold" data-invoice-total>
+                      {money(invoice.totalCents, invoice.currency)}
+                    </td>
+                  </tr>
+                </tfoot>
+              </table>
+            </div>
+            <Form method="post" action={action} className="mt-4 flex flex-wrap gap-3">
+              {owner && invoice.state === "draft" && (
+                <>
+                  <button type="submit" name="intent" value="send" className="btn-primary">
+                    Send to client
+                  </button>
+                  <button type="submit" name="intent" value="build" className="btn-quiet">
+                    Rebuild from rates
+                  </button>
+                </>
+              )}
+              {owner && (invoice.state === "draft" || invoice.state === "sent") && (
+                <button type="submit" name="intent" value="void" className="btn-quiet">
+                  Void
+                </button>
+              )}
+              {role === "client" && invoice.state === "sent" && (
+                <button type="submit" name="intent" value="pay" className="btn-primary">
+                  Pay {money(invoice.totalCents, invoice.currency)}
+                </button>
+              )}
+            </Form>
+          </div>
+        )}
+      </section>
+      <section id="finals" aria-labelledby="finals-heading" className="mt-8">
+        <h2 id="finals-heading" className="mb-2 text-lg font-semibold">
+          Final files
+        </h2>
+        <div className="card flex flex-wrap items-center gap-3 p-5 text-sm">
+          {!billing.finalsOpen ? (
+            <p className="text-ink-soft">The final files unlock once the invoice is paid. Previews stay open for review.</p>
+          ) : billing.hasDeliveries ? (
+            <a href={`/releases/${releaseId}/package.zip`} className="btn-primary" download>
+              Download all finals (zip)
+            </a>
+          ) : (
+            <p className="text-ink-soft">Nothing has been delivered yet.</p>
+          )}
+          <Link to={`/releases/${releaseId}/loudness-report`} className="btn-quiet">
+            Loudness report
+          </Link>
+          {role !== "client" && (
+            <Link to={`/releases/${releaseId}/delivery`} className="btn-quiet">
+              Deliveries
+            </Link>
+          )}
+        </div>
+      </section>
+    </>
+  );
+}

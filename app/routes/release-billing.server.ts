@@ -1,0 +1,34 @@
+// What the release page shows of billing and finals: the invoice (a client
+// sees it once sent), whether the finals are open to this user, and whether
+// there is anything delivered to download.
+import type { CurrentUser } from "../models/user.server.ts";
+import { db } from "../lib/db.server.ts";
+import { isStaff } from "../lib/roles.ts";
+import { getInvoiceForRelease, isReleasePaid } from "../models/invoice.server.ts";
+
+export async function releaseBillingData(releaseId: string, user: Pick<CurrentUser, "role">, search: URLSearchParams) {
+  const [found, paid, delivered] = await Promise.all([
+    getInvoiceForRelease(releaseId),
+    isReleasePaid(releaseId),
+    db("deliveries").where({ release_id: releaseId, state: "done" }).first("id"),
+  ]);
+  const staff = isStaff(user.role);
+  const invoice = found && (staff || found.state !== "draft") ? found : undefined;
+  return {
+    role: user.role,
+    invoice: invoice && {
+      number: invoice.number,
+      state: invoice.state,
+      currency: invoice.currency,
+      totalCents: invoice.totalCents,
+      lines: invoice.lines.map((l) => ({ id: l.id, description: l.description, quantity: l.quantity, unitCents: l.unitCents, amountCents: l.amountCents })),
+    },
+    paid,
+    finalsOpen: staff || paid,
+    hasDeliveries: delivered !== undefined,
+    invoiceError: search.get("invoiceError"),
+    returnedFromPayment: search.has("paid"),
+  };
+}
+
+export type ReleaseBilling = Awaited<ReturnType<typeof releaseBillingData>>;

@@ -1,0 +1,223 @@
+// /releases/:releaseId/delivery — the release's delivery formats (the
+// studio's defaults until the release gets its own: adding a format copies
+// the defaults in first), "Make deliveries" (every track's newest finished
+// print × every format, one queued job each), and the deliveries with their
+// state and warnings. Staff only: clients get their files from the release page.
+import { data, Form, Link } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/release-delivery";
+import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
+import { requireReleaseAccess } from "../lib/auth.server.ts";
+import { db } from "../lib/db.server.ts";
+import { formValues, parseForm } from "../lib/forms.ts";
+import { STAFF } from "../lib/roles.ts";
+import { enqueueDelivery } from "../jobs/queue.server.ts";
+import { addFormat, queueReleaseDeliveries, releaseFormats } from "../models/delivery.server.ts";
+import { FormNotice, SelectField, TextField } from "../components/field.tsx";
+import { PageHeader } from "../components/page-header.tsx";
+
+const dbNumber = (label: string, min: number, max: number, unit: string) =>
+  z
+    .string()
+    .trim()
+    .min(1, `Enter ${label}.`)
+    .transform((t) => Number(t.replace("−", "-")))
+    .refine((n) => Number.isFinite(n) && n >= min && n <= max, `Write a number from ${min} to ${max} ${unit}.`);
+
+export const formatSchema = z.object({
+  name: z.string().trim().min(1, "Enter a name.").max(80, "At most 80 characters."),
+  sampleRate: z.enum(DELIVERY_SAMPLE_RATES.map(String) as [string, ...string[]], "Pick a sample rate.").transform(Number),
+  bitDepth: z.enum(["16", "24", "32f"], "Pick a bit depth."),
+  dither: z.enum(["tpdf", "none"], "Pick dither or none."),
+  ceilingDbtp: dbNumber("a ceiling", -20, 0, "dBTP"),
+  targetLufs: z
+    .string()
+    .trim()
+    .transform((t) => (t === "" ? undefined : Number(t.replace("−", "-"))))
+    .refine((n) => n === undefined || (Number.isFinite(n) && n >= -60 && n <= 0), "Leave empty, or write a number from -60 to 0 LUFS."),
+});
+
+// A print is a few minutes; the job's time limit is sized for 10 minutes of audio.
+const ASSUMED_AUDIO_SECONDS = 600;
+
+type DeliveryListRow = { id: string; position: number; title: string; formatName: string; state: string; warnings: string[] | null; error: string | null; createdAt: string };
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { release } = await requireReleaseAccess(request, params.releaseId, STAFF);
+  const [formats, own, rows] = await Promise.all([
+    releaseFormats(release.id),
+    db("delivery_formats").where({ release_id: release.id }).count<{ count: string }[]>("id as count"),
+    db("deliveries as d")
+      .join("tracks as t", "t.id", "d.track_id")
+      .where("d.release_id", release.id)
+      .orderBy([{ column: "d.created_at", order: "desc" }, { column: "t.position" }])
+      .limit(200)
+      .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt"),
+  ]);
+  return { release: { id: release.id, title: release.title }, formats, ownFormats: Number(own[0]?.count ?? 0) > 0, deliveries: rows as DeliveryListRow[] };
+}
+
+type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; tracksWithoutPrint: number };
+const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, tracksWithoutPrint: 0, ...r }, { status });
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
+  const form = await request.formData();
+  const intent = String(form.get("intent") ?? "");
+  if (intent === "make") {
+    const { deliveryIds, tracksWithoutPrint } = await queueReleaseDeliveries(release.id);
+    for (const id of deliveryIds) await enqueueDelivery(id, ASSUMED_AUDIO_SECONDS);
+    return reply({ intent, queued: deliveryIds.length, tracksWithoutPrint: tracksWithoutPrint.length });
+  }
+  if (intent !== "add-format") return reply({ intent, errors: { form: "Unknown action." } }, 400);
+  const result = parseForm(formatSchema, form);
+  const values = formValues(form);
+  if (!result.ok) return reply({ intent, errors: result.errors, values: result.values }, 400);
+  const f = result.data;
+  const format = {
+    name: f.name,
+    sampleRate: f.sampleRate as (typeof DELIVERY_SAMPLE_RATES)[number],
+    bitDepth: f.bitDepth === "32f" ? ("32f" as const) : (Number(f.bitDepth) as 16 | 24),
+    dither: f.dither,
+    ceilingDbtp: f.ceilingDbtp,
+    ...(f.targetLufs !== undefined ? { targetLufs: f.targetLufs } : {}),
+  };
+  try {
+    await db.transaction(async (trx) => {
+      // The first format of the release's own: the studio's defaults come along, so nothing is lost.
+      const own = await trx("delivery_formats").where({ release_id: release.id }).first("id");
+      if (!own) for (const d of await releaseFormats(release.id, trx)) await addFormat(user.studioId, release.id, d, trx);
+      await addFormat(user.studioId, release.id, format, trx);
+    });
+  } catch (error) {
+    const message = (error as Error).message;
+    if (/delivery_formats|unique|duplicate/i.test(message)) return reply({ intent, errors: { name: "This release already has a format of that name." }, values }, 400);
+    if (error instanceof RangeError) return reply({ intent, errors: { form: message }, values }, 400);
+    throw error;
+  }
+  return reply({ intent });
+}
+
+const RATE_OPTIONS = DELIVERY_SAMPLE_RATES.map((r) => ({ value: String(r), label: `${(r / 1000).toString()} kHz` }));
+const DEPTH_OPTIONS = [
+  { value: "24", label: "24-bit" },
+  { value: "16", label: "16-bit" },
+  { value: "32f", label: "32-bit float" },
+];
+
+export default function ReleaseDelivery({ loaderData, actionData }: Route.ComponentProps) {
+  const { release, formats, ownFormats, deliveries } = loaderData;
+  const add = actionData?.intent === "add-format" ? actionData : undefined;
+  const made = actionData?.intent === "make" ? actionData : undefined;
+  return (
+    <>
+      <PageHeader
+        eyebrow={<Link to={`/releases/${release.id}`}>{release.title}</Link>}
+        title="Deliveries"
+        actions={
+          <Link to={`/releases/${release.id}/loudness-report`} className="btn-quiet">
+            Loudness report
+          </Link>
+        }
+      />
+      <section className="mb-8" aria-labelledby="formats-heading">
+        <h2 id="formats-heading" className="mb-2 text-lg font-semibold">
+          Formats
+        </h2>
+        <p className="mb-3 text-sm text-ink-soft">{ownFormats ? "This release's own formats." : "The studio's default formats. Adding one gives this release its own list, starting from these."}</p>
+        <div className="card mb-4 overflow-x-auto">
+          <table className="data-table" aria-label="Delivery formats">
+            <thead>
+              <tr>
+                <th scope="col">Name</th>
+                <th scope="col">Sample rate</th>
+                <th scope="col">Bit depth</th>
+                <th scope="col">Dither</th>
+                <th scope="col">Ceiling</th>
+                <th scope="col">Target</th>
+              </tr>
+            </thead>
+            <tbody>
+              {formats.map((f) => (
+                <tr key={f.id}>
+                  <td>{f.name}</td>
+                  <td className="num">{f.sampleRate} Hz</td>
+                  <td className="num">{f.bitDepth === "32f" ? "32-bit float" : `${f.bitDepth}-bit`}</td>
+                  <td>{f.dither === "tpdf" ? "TPDF" : "none"}</td>
+                  <td className="num">{f.ceilingDbtp} dBTP</td>
+                  <td className="num">{f.targetLufs !== undefined ? `${f.targetLufs} LUFS` : "keep level"}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+        <Form method="post" className="card grid gap-4 p-5 sm:grid-cols-2 lg:grid-cols-3" noValidate>
+          <input type="hidden" name="intent" value="add-format" />
+          <h3 className="font-semibold sm:col-span-2 lg:col-span-3">Add a format</h3>
+          <div className="sm:col-span-2 lg:col-span-3">
+            <FormNotice message={add?.errors.form} />
+          </div>
+          <TextField label="Name" name="name" defaultValue={add?.values.name} error={add?.errors.name} />
+          <SelectField label="Sample rate" name="sampleRate" options={RATE_OPTIONS} defaultValue={add?.values.sampleRate ?? "48000"} error={add?.errors.sampleRate} />
+          <SelectField label="Bit depth" name="bitDepth" options={DEPTH_OPTIONS} defaultValue={add?.values.bitDepth ?? "24"} error={add?.errors.bitDepth} />
+          <SelectField label="Dither" name="dither" options={[{ value: "tpdf", label: "TPDF" }, { value: "none", label: "None" }]} defaultValue={add?.values.dither ?? "tpdf"} error={add?.errors.dither} />
+          <TextField label="Ceiling (dBTP)" name="ceilingDbtp" inputMode="decimal" defaultValue={add?.values.ceilingDbtp ?? "-1"} error={add?.errors.ceilingDbtp} />
+          <TextField label="Target (LUFS, optional)" name="targetLufs" inputMode="decimal" hint="Empty keeps the print's level." defaultValue={add?.values.targetLufs} error={add?.errors.targetLufs} />
+          <div className="sm:col-span-2 lg:col-span-3">
+            <button type="submit" className="btn-quiet">
+              Add format
+            </button>
+          </div>
+        </Form>
+      </section>
+      <section aria-labelledby="deliveries-heading">
+        <h2 id="deliveries-heading" className="mb-2 text-lg font-semibold">
+          Delivered files
+        </h2>
+        <Form method="post" className="mb-4 flex flex-wrap items-center gap-3">
+          <input type="hidden" name="intent" value="make" />
+          <button type="submit" className="btn-primary">
+            Make deliveries
+          </button>
+          <span className="text-sm text-ink-soft">Every track with a finished print, from its newest print, in every format above.</span>
+        </Form>
+        {made && (
+          <FormNotice
+            tone="info"
+            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.tracksWithoutPrint > 0 ? ` ${made.tracksWithoutPrint} track(s) have no finished print yet and were left out.` : ""}`}
+          />
+        )}
+        {deliveries.length === 0 ? (
+          <p className="card px-5 py-8 text-center text-ink-soft">No deliveries yet.</p>
+        ) : (
+          <div className="card overflow-x-auto">
+            <table className="data-table" aria-label="Deliveries">
+              <thead>
+                <tr>
+                  <th scope="col">Track</th>
+                  <th scope="col">Format</th>
+                  <th scope="col">State</th>
+                  <th scope="col">Warnings</th>
+                </tr>
+              </thead>
+              <tbody>
+                {deliveries.map((d) => (
+                  <tr key={d.id}>
+                    <td>
+                      <span className="num text-ink-soft">{d.position}.</span> {d.title}
+                    </td>
+                    <td>{d.formatName}</td>
+                    <td>{d.state}</td>
+                    <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          </div>
+        )}
+      </section>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `Deliveries · ${data?.release.title ?? "Release"} · Tidemark` }];
