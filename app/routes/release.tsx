@@ -7,14 +7,18 @@ import { RELEASE_KIND_LABELS } from "../schemas/release.ts";
 import { formatIsrc } from "../schemas/track.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { StatusBadge } from "../components/status-badge.tsx";
+import { releaseBillingData } from "./release-billing.server.ts";
+import { ReleaseBillingSection } from "./release-billing-section.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
-  return { release, tracks: await listTracks(release.id), staff: isStaff(user.role) };
+  const billing = await releaseBillingData(release.id, user, new URL(request.url).searchParams);
+  return { billing, release, tracks: await listTracks(release.id), staff: isStaff(user.role) };
 }
 
 export default function Release({ loaderData }: Route.ComponentProps) {
   const { release, tracks, staff } = loaderData;
+  const { billing } = loaderData;
   return (
     <>
       <PageHeader
@@ -76,6 +80,7 @@ export default function Release({ loaderData }: Route.ComponentProps) {
           </table>
         </div>
       )}
+      <ReleaseBillingSection releaseId={release.id} billing={billing} />
     </>
   );
 }
