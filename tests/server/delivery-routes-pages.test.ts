@@ -1,0 +1,165 @@
+// The delivery and billing pages against the real database: billing settings
+// (errors beside fields, values kept, saved values read back), a release's
+// delivery formats (the studio's defaults copied in when a format is added),
+// "Make deliveries" (one queued delivery and job per track × format, made here
+// by makeDelivery instead of a worker), the loudness report page, and the
+// release page's invoice and final files for the owner and the client.
+process.env.TIDEMARK_QUEUE_NAMESPACE = `pages-${process.pid}`;
+import { randomUUID } from "node:crypto";
+import { mkdtemp, rm } from "node:fs/promises";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { db } from "../../app/lib/db.server.ts";
+import { makeDelivery } from "../../app/lib/delivery/make-delivery.server.ts";
+import { storage } from "../../app/lib/storage/storage.server.ts";
+import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { buildInvoice, sendInvoice } from "../../app/models/invoice.server.ts";
+import * as delivery from "../../app/routes/release-delivery.tsx";
+import * as report from "../../app/routes/loudness-report.tsx";
+import * as billingPage from "../../app/routes/settings-billing-page.tsx";
+import * as releasePage from "../../app/routes/release.tsx";
+import { createWavWriter } from "../../dsp/io/wav-writer.ts";
+import { createFixture, dataOf, destroyFixture, requestAs, type Fixture, type Persona } from "./fixtures.ts";
+
+let fixture: Fixture;
+let dir: string;
+const storedKeys: string[] = [];
+
+const call = (handler: unknown, persona: Persona, path: string, form?: Record<string, string>) =>
+  (handler as (a: unknown) => Promise<unknown>)({ request: requestAs(fixture, persona, path, form ? { form } : {}), params: { releaseId: fixture.releaseId }, context: {} });
+
+/** A finished print in shared storage: a 997 Hz stereo sine at peak 0.5 (about −6 LUFS after ITU-R BS.1770-4), 1 s at 48 kHz. */
+async function storedPrint(): Promise<string> {
+  const path = join(dir, `${randomUUID()}.wav`);
+  const frames = 48_000;
+  const writer = await createWavWriter(path, { sampleRate: 48000, channels: 2, bitDepth: 32, float: true });
+  const tone = Float64Array.from({ length: frames }, (_, i) => 0.5 * Math.sin((2 * Math.PI * 997 * i) / 48000));
+  await writer.write([tone, tone], frames);
+  await writer.close();
+  const key = `renders/${fixture.tag}/${randomUUID()}.wav`;
+  await storage().put(key, { filePath: path });
+  storedKeys.push(key);
+  const [mix] = await db("mixes")
+    .insert({ track_id: fixture.trackId, version: 1, original_name: "mix.wav", storage_key: `mixes/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48000, channels: 2, bit_depth: 24, sample_format: "int", frames })
+    .returning("id");
+  const [chain] = await db("chains").insert({ studio_id: fixture.studioId, track_id: fixture.trackId, name: "Pages chain" }).returning("id");
+  const [rev] = await db("chain_revisions").insert({ chain_id: chain.id, revision: 1, params: JSON.stringify({ stages: [] }) }).returning("id");
+  const [render] = await db("renders").insert({ mix_id: mix.id, chain_revision_id: rev.id, kind: "print", state: "done", output_key: key, finished_at: db.fn.now() }).returning("id");
+  return render.id as string;
+}
+
+beforeAll(async () => {
+  fixture = await createFixture();
+  dir = await mkdtemp(join(tmpdir(), "tidemark-pages-"));
+});
+afterAll(async () => {
+  if (fixture) {
+    await db("deliveries").where({ release_id: fixture.releaseId }).delete();
+    await db("invoices").where({ studio_id: fixture.studioId }).delete();
+    await db("renders").whereIn("mix_id", db("mixes").where({ track_id: fixture.trackId }).select("id")).delete();
+  }
+  for (const key of storedKeys) await storage().delete(key).catch(() => {});
+  await stopQueue();
+  await destroyFixture(fixture);
+  await rm(dir, { recursive: true, force: true });
+});
+
+describe("billing settings page", () => {
+  it("keeps what was typed and puts each error beside its field", async () => {
+    const { status, body } = dataOf<{ errors: Record<string, string>; values: Record<string, string> }>(
+      await call(billingPage.action, "owner", "/settings/billing", { currency: "EURO", trackRate: "2,50", revisionRate: "40", references: "Loud: 3" }),
+    );
+    expect(status).toBe(400);
+    expect(body.errors.currency).toMatch(/three-letter/);
+    expect(body.errors.trackRate).toMatch(/250\.50/);
+    expect(body.errors.revisionRate).toBeUndefined();
+    expect(body.errors.references).toMatch(/Line 1/);
+    expect(body.values.trackRate).toBe("2,50");
+  });
+
+  it("saves and reads back the rates and reference levels", async () => {
+    const saved = (await call(billingPage.action, "owner", "/settings/billing", { currency: "eur", trackRate: "250", revisionRate: "40.5", references: "Stream: -14\nBroadcast: -23" })) as Response;
+    expect(saved.status).toBe(302);
+    expect(saved.headers.get("Location")).toBe("/settings/billing?saved=1");
+    const page = (await call(billingPage.loader, "owner", "/settings/billing?saved=1")) as { saved: boolean; values: Record<string, string> };
+    expect(page).toEqual({ saved: true, values: { currency: "EUR", trackRate: "250.00", revisionRate: "40.50", references: "Stream: -14\nBroadcast: -23" } });
+  });
+});
+
+describe("delivery page", () => {
+  it("refuses a format that cannot be printed, with the error beside the field", async () => {
+    const { status, body } = dataOf<{ errors: Record<string, string> }>(
+      await call(delivery.action, "engineer", "/delivery", { intent: "add-format", name: "Hot", sampleRate: "22050", bitDepth: "24", dither: "tpdf", ceilingDbtp: "2", targetLufs: "x" }),
+    );
+    expect(status).toBe(400);
+    expect(body.errors.sampleRate).toBeDefined();
+    expect(body.errors.ceilingDbtp).toMatch(/-20 to 0 dBTP/);
+    expect(body.errors.targetLufs).toMatch(/LUFS/);
+    expect(await db("delivery_formats").where({ release_id: fixture.releaseId })).toHaveLength(0);
+  });
+
+  it("copies the studio's defaults into the release when a format is added", async () => {
+    const before = (await call(delivery.loader, "engineer", "/delivery")) as { formats: { name: string }[]; ownFormats: boolean };
+    expect(before.ownFormats).toBe(false);
+    const { status } = dataOf(await call(delivery.action, "engineer", "/delivery", { intent: "add-format", name: "Loud web", sampleRate: "44100", bitDepth: "16", dither: "tpdf", ceilingDbtp: "-1.5", targetLufs: "-9" }));
+    expect(status).toBe(200);
+    const after = (await call(delivery.loader, "engineer", "/delivery")) as { formats: { name: string; ceilingDbtp: number; targetLufs?: number }[]; ownFormats: boolean };
+    expect(after.ownFormats).toBe(true);
+    expect(after.formats.map((f) => f.name)).toEqual([...before.formats.map((f) => f.name), "Loud web"]);
+    expect(after.formats.at(-1)).toMatchObject({ ceilingDbtp: -1.5, targetLufs: -9 });
+  });
+
+  it("queues one delivery per track and format; made, they show with warnings and in the report", async () => {
+    const empty = dataOf<{ queued: number; tracksWithoutPrint: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
+    expect(empty.body).toMatchObject({ queued: 0, tracksWithoutPrint: 1 });
+
+    await storedPrint();
+    const made = dataOf<{ queued: number; tracksWithoutPrint: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
+    const formats = await db("delivery_formats").where({ release_id: fixture.releaseId });
+    expect(made.body).toMatchObject({ queued: formats.length, tracksWithoutPrint: 0 });
+    const rows = await db("deliveries").where({ release_id: fixture.releaseId }).select("id", "state");
+    expect(rows.map((r) => r.state)).toEqual(formats.map(() => "queued"));
+    // Each queued delivery has its job in the deliver queue.
+    const jobs = await db.raw(`SELECT data->>'deliveryId' AS id FROM pgboss.job WHERE name = ?`, [`deliver-pages-${process.pid}`]);
+    expect(new Set(jobs.rows.map((j: { id: string }) => j.id))).toEqual(new Set(rows.map((r) => r.id)));
+
+    for (const r of rows) await makeDelivery(r.id);
+    const page = (await call(delivery.loader, "engineer", "/delivery")) as { deliveries: { formatName: string; state: string; warnings: string[] }[] };
+    expect(page.deliveries.every((d) => d.state === "done")).toBe(true);
+    // The sine (about −6 LUFS, peak −6 dBFS) is turned down to the −9 LUFS target, well under its −1.5 dBTP ceiling: nothing to warn of.
+    const loud = page.deliveries.find((d) => d.formatName === "Loud web")!;
+    expect(loud.warnings).toEqual([]);
+
+    const data = (await call(report.loader, "client", "/loudness-report")) as { report: { references: { name: string }[]; rows: { format: string; integratedLufs: number; turnDownDb: number[] }[] } };
+    expect(data.report.references.map((r) => r.name)).toEqual(["Stream", "Broadcast"]);
+    const row = data.report.rows.find((r) => r.format === "Loud web")!;
+    expect(row.integratedLufs).toBeCloseTo(-9, 0);
+    // Turn-down = integrated − reference where louder (−9 − −14 = 5 dB, −9 − −23 = 14 dB).
+    expect(row.turnDownDb[0]).toBeCloseTo(row.integratedLufs + 14, 6);
+    expect(row.turnDownDb[1]).toBeCloseTo(row.integratedLufs + 23, 6);
+  });
+});
+
+describe("release page: invoice and finals", () => {
+  type Billing = { invoice?: { state: string; totalCents: number; lines: unknown[] }; finalsOpen: boolean; hasDeliveries: boolean };
+  const billingAs = async (persona: Persona, search = "") => ((await call(releasePage.loader, persona, `/releases/${fixture.releaseId}${search}`)) as { billing: Billing }).billing;
+
+  it("hides a draft from the client, shows it sent, and opens the finals once paid", async () => {
+    const invoice = await buildInvoice(fixture.releaseId);
+    expect((await billingAs("owner")).invoice).toMatchObject({ state: "draft", totalCents: invoice.totalCents });
+    expect((await billingAs("client")).invoice).toBeUndefined();
+    await sendInvoice(invoice.id, { appUrl: "http://tidemark.test" });
+    const sent = await billingAs("client");
+    expect(sent.invoice?.state).toBe("sent");
+    expect(sent).toMatchObject({ finalsOpen: false, hasDeliveries: true });
+    expect((await billingAs("engineer")).finalsOpen).toBe(true);
+    await db("invoices").where({ id: invoice.id }).update({ state: "paid", paid_at: db.fn.now() });
+    expect((await billingAs("client")).finalsOpen).toBe(true);
+  });
+
+  it("passes a refused step's message to the page", async () => {
+    const page = (await call(releasePage.loader, "owner", `/releases/${fixture.releaseId}?invoiceError=nope`)) as { billing: { invoiceError: string | null } };
+    expect(page.billing.invoiceError).toBe("nope");
+  });
+});
