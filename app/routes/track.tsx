@@ -133,11 +133,19 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
           <h2 id="renders" className="text-lg font-semibold">
             Renders
           </h2>
-          {staff && mixes.length > 0 && (
-            <Link to={`${base}/renders/new`} className="btn-primary">
-              New render
-            </Link>
-          )}
+          <div className="flex flex-wrap gap-2">
+            {/* Staff and the client alike: the compare page shows each only the renders they may hear. */}
+            {renders.length > 0 && (
+              <Link to={`${base}/compare`} className="btn-quiet">
+                Compare
+              </Link>
+            )}
+            {staff && mixes.length > 0 && (
+              <Link to={`${base}/renders/new`} className="btn-primary">
+                New render
+              </Link>
+            )}
+          </div>
         </div>
         {renders.length === 0 ? <p className="mt-2 text-sm text-ink-soft">No renders of this track yet.</p> : <RenderList renders={renders} base={base} />}
       </section>

@@ -15,6 +15,7 @@ export default function Workspace({ loaderData }: Route.ComponentProps) {
   const nav = [
     { to: "/", label: "Dashboard", end: true, show: true },
     { to: "/releases", label: "Releases", end: false, show: isStaff(user.role) },
+    { to: "/templates", label: "Templates", end: false, show: isStaff(user.role) },
     { to: "/team", label: "Team", end: false, show: user.role === "owner" },
     { to: "/settings", label: "Settings", end: false, show: true },
   ].filter((item) => item.show);

@@ -114,7 +114,7 @@ const cases: Case[] = [
   { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), expected: signedOutOnly },
   { route: "/invitations/:token (unknown)", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => "/invitations/unknown", params: () => ({ token: "x".repeat(43) }), expected: everyone("404") },
   { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "action", handler: invitation.action as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), form: { name: "" }, expected: signedOutOnly },
-  { route: "(workspace layout)", file: "routes/workspace.tsx", kind: "loader", handler: workspace.loader as Handler, path: () => "/", expected: signedIn },
+  { route: "(workspace layout)", file: "routes/workspace.tsx", kind: "loader", handler: workspace.loader as unknown as Handler, path: () => "/", expected: signedIn },
   { route: "/", file: "routes/dashboard.tsx", kind: "loader", handler: dashboard.loader as Handler, path: () => "/", expected: signedIn },
   { route: "/releases", file: "routes/releases.tsx", kind: "loader", handler: releases.loader as Handler, path: () => "/releases", expected: staff },
   { route: "/releases/new", file: "routes/release-new.tsx", kind: "loader", handler: releaseNew.loader as Handler, path: () => "/releases/new", expected: staff },
