@@ -13,6 +13,7 @@ import type PgBoss from "pg-boss";
 import { z } from "zod";
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
+import { startMailDelivery } from "../lib/mail/mailer.server.ts";
 import { runAnalyzeJob } from "./analyze-job.server.ts";
 import { runDeliveryJob } from "./delivery-job.server.ts";
 import { queueSettings, startBoss } from "./queue.server.ts";
@@ -29,6 +30,8 @@ const env = z
     WORKER_SWEEP_SECONDS: z.coerce.number().min(0.5).default(5),
     WORKER_SHUTDOWN_GRACE_SECONDS: z.coerce.number().min(0).default(20),
     WORKER_TMP_DIR: z.string().min(1).default(os.tmpdir()),
+    // How often the worker sends what the mail outbox holds.
+    MAIL_POLL_SECONDS: z.coerce.number().min(0.5).default(5),
   })
   .parse(process.env);
 
@@ -138,6 +141,10 @@ const sweeper = setInterval(() => {
     .catch((error) => log(`sweep: ${(error as Error).message}`));
 }, env.WORKER_SWEEP_SECONDS * 1000);
 
+// The worker also delivers the outbox: it runs beside every web server, and
+// the outbox claims rows with a lease, so several workers never send twice.
+const mail = startMailDelivery(db, { intervalMs: env.MAIL_POLL_SECONDS * 1000, log });
+
 const slots = Array.from({ length: threads }, () => slot());
 log(`ready: ${threads} thread(s), queues ${settings.renderQueue} and ${settings.analyzeQueue}, storage ${ctx.storage.kind}`);
 
@@ -154,6 +161,7 @@ async function shutdown(signal: string): Promise<void> {
     await all;
   }
   clearInterval(sweeper);
+  await mail.stop();
   await pool.destroy();
   await boss.stop({ graceful: false, wait: true });
   await db.destroy();

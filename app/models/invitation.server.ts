@@ -2,6 +2,8 @@
 // link carries a random token of which only a SHA-256 is stored.
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../lib/db.server.ts";
+import { queueEmail } from "../lib/mail/mailer.server.ts";
+import { invitationEmail } from "../lib/mail/templates.server.ts";
 import { hashPassword } from "../lib/password.server.ts";
 import { normalizeEmail } from "./user.server.ts";
 import { INVITATION_DAYS } from "../schemas/team.ts";
@@ -21,18 +23,37 @@ export async function createInvitation(input: {
   email: string;
   role: "engineer" | "client";
   clientId: string | null;
-}): Promise<{ token: string }> {
+  /** The site's public address; when given, the invitation is also e-mailed (queued with the row). */
+  publicUrl?: string;
+}): Promise<{ token: string; emailId: string | null }> {
   const token = randomBytes(32).toString("base64url");
-  await db("invitations").insert({
-    studio_id: input.studioId,
-    invited_by: input.invitedBy,
-    email: normalizeEmail(input.email),
-    role: input.role,
-    client_id: input.clientId,
-    token_hash: hashToken(token),
-    expires_at: db.raw(`now() + make_interval(days => ?)`, [INVITATION_DAYS]),
+  return db.transaction(async (t) => {
+    await t("invitations").insert({
+      studio_id: input.studioId,
+      invited_by: input.invitedBy,
+      email: normalizeEmail(input.email),
+      role: input.role,
+      client_id: input.clientId,
+      token_hash: hashToken(token),
+      expires_at: t.raw(`now() + make_interval(days => ?)`, [INVITATION_DAYS]),
+    });
+    if (!input.publicUrl) return { token, emailId: null };
+    const studio = await t("studios").where({ id: input.studioId }).first<{ name: string } | undefined>("name");
+    const inviter = await t("users").where({ id: input.invitedBy }).first<{ name: string } | undefined>("name");
+    const parts = invitationEmail({
+      studioName: studio?.name ?? "Your studio",
+      inviterName: inviter?.name ?? "The studio",
+      role: input.role,
+      link: invitationLink(input.publicUrl, token),
+      expiresInDays: INVITATION_DAYS,
+    });
+    const emailId = await queueEmail(t, { to: normalizeEmail(input.email), ...parts, kind: "invitation", studioId: input.studioId });
+    return { token, emailId };
   });
-  return { token };
+}
+
+export function invitationLink(publicUrl: string, token: string): string {
+  return `${publicUrl.replace(/\/+$/, "")}/invitations/${token}`;
 }
 
 export async function listPendingInvitations(studioId: string): Promise<PendingInvitation[]> {

@@ -2,7 +2,9 @@ import { Link } from "react-router";
 import type { Route } from "./+types/dashboard";
 import { requireUser } from "../lib/auth.server.ts";
 import { isStaff } from "../lib/roles.ts";
+import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { listReleasesForUser } from "../models/release.server.ts";
+import { openReviews } from "../models/review-feed.server.ts";
 import { RELEASE_STATUSES, RELEASE_STATUS_LABELS } from "../schemas/release.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { ReleaseTable } from "../components/release-table.tsx";
@@ -16,11 +18,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     heading: isStaff(user.role) ? user.studioName : (user.clientName ?? "Your releases"),
     releases,
     counts,
+    reviews: await openReviews(releases.map((r) => r.id)),
   };
 }
 
 export default function Dashboard({ loaderData }: Route.ComponentProps) {
-  const { staff, heading, releases, counts } = loaderData;
+  const { staff, heading, releases, counts, reviews } = loaderData;
   return (
     <>
       <PageHeader
@@ -43,6 +46,23 @@ export default function Dashboard({ loaderData }: Route.ComponentProps) {
             </div>
           ))}
         </dl>
+      )}
+      {reviews.length > 0 && (
+        <section aria-labelledby="reviews" className="mb-6">
+          <h2 id="reviews" className="mb-2 text-lg font-semibold">
+            Reviews
+          </h2>
+          <ul className="card divide-y divide-rule">
+            {reviews.map((r) => (
+              <li key={r.trackId} className="flex flex-wrap items-baseline justify-between gap-2 px-4 py-2 text-sm">
+                <Link to={`/releases/${r.releaseId}/tracks/${r.trackId}/compare`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                  {r.releaseTitle} · {r.trackTitle}
+                </Link>
+                <span data-review-status={r.status}>{REVIEW_STATUS_LABEL[r.status]}</span>
+              </li>
+            ))}
+          </ul>
+        </section>
       )}
       <ReleaseTable releases={releases} showClient={staff} />
     </>

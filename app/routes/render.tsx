@@ -9,6 +9,8 @@ import { requireTrackRender } from "../lib/render-access.server.ts";
 import { describeRevision } from "../lib/render-views.server.ts";
 import { readChartTraces } from "../lib/render-traces.server.ts";
 import { cancelRender } from "../models/render.server.ts";
+import { publicAppUrl } from "../lib/billing/links.ts";
+import { ReviewActionError, ReviewForbiddenError, sendForReview } from "../models/review.server.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { RenderProgress } from "../components/render/progress-bar.tsx";
 import { AnalysesTable } from "../components/render/analyses-table.tsx";
@@ -23,7 +25,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     render.state === "done" ? readChartTraces(render.tracesKey, render.region?.startS ?? 0) : null,
   ]);
   return {
-    release: { id: release.id, title: release.title },
+    release: { id: release.id, title: release.title, clientName: release.clientName },
     track: { id: track.id, title: track.title },
     mix: { id: mix.id, version: mix.version, originalName: mix.originalName },
     chain,
@@ -45,8 +47,19 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
-  const { render } = await requireTrackRender(request, params, STAFF);
+  const { user, release, track, render } = await requireTrackRender(request, params, STAFF);
   const form = await request.formData();
+  if (form.get("intent") === "send") {
+    const link = `${publicAppUrl()}/releases/${release.id}/tracks/${track.id}/review?render=${render.id}`;
+    try {
+      await sendForReview({ renderId: render.id, senderId: user.id, message: String(form.get("message") ?? "").slice(0, 4000), link });
+      return { sent: true as const };
+    } catch (error) {
+      if (error instanceof ReviewForbiddenError) throw new Response("Not Found", { status: 404 });
+      if (error instanceof ReviewActionError) return Response.json({ sendError: error.message }, { status: 409 });
+      throw error;
+    }
+  }
   if (form.get("intent") !== "cancel") return Response.json({ error: "Unknown action." }, { status: 400 });
   const after = await cancelRender(render.id);
   return { cancelled: after?.state === "cancelled" };
@@ -54,7 +67,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 type Progress = { id: string; state: string; progress: number; error: string | null };
 
-export default function RenderPage({ loaderData }: Route.ComponentProps) {
+export default function RenderPage({ loaderData, actionData }: Route.ComponentProps) {
   const { release, track, mix, chain, render, traces, staff } = loaderData;
   const base = `/releases/${release.id}/tracks/${track.id}`;
   const here = `${base}/renders/${render.id}`;
@@ -157,6 +170,33 @@ export default function RenderPage({ loaderData }: Route.ComponentProps) {
               </p>
             </div>
           </section>
+          {staff && (
+            <section aria-labelledby="send" className="mt-8 max-w-3xl">
+              <h2 id="send" className="text-lg font-semibold">
+                Send for review
+              </h2>
+              <Form method="post" className="card mt-3 space-y-2 p-4">
+                <input type="hidden" name="intent" value="send" />
+                <label className="block text-sm">
+                  Message to {release.clientName ?? "the client"} (optional)
+                  <textarea name="message" rows={3} maxLength={4000} className="field-input mt-1" />
+                </label>
+                <button type="submit" className="btn-primary">
+                  Send for review
+                </button>
+                {actionData && "sent" in actionData && (
+                  <p role="status" className="text-sm text-accent-deep">
+                    Sent. The client has been e-mailed a link to listen.
+                  </p>
+                )}
+                {actionData && "sendError" in actionData && (
+                  <p role="alert" className="text-sm text-danger">
+                    {String(actionData.sendError)}
+                  </p>
+                )}
+              </Form>
+            </section>
+          )}
           <section aria-labelledby="analyses" className="mt-8">
             <h2 id="analyses" className="mb-3 text-lg font-semibold">
               Analyses

@@ -3,7 +3,8 @@ import type { Route } from "./+types/team";
 import { requireRole } from "../lib/auth.server.ts";
 import { parseForm, type FieldErrors } from "../lib/forms.ts";
 import { clientInStudio, clientNameTaken, createClient, listClients } from "../models/client.server.ts";
-import { createInvitation, emailHasAccount, listPendingInvitations } from "../models/invitation.server.ts";
+import { publicAppUrl } from "../lib/billing/links.ts";
+import { createInvitation, emailHasAccount, invitationLink, listPendingInvitations } from "../models/invitation.server.ts";
 import { changeStaffRole, listMembers } from "../models/team.server.ts";
 import { clientSchema, INVITATION_DAYS, invitationSchema, roleChangeSchema } from "../schemas/team.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
@@ -29,9 +30,9 @@ export async function action({ request }: Route.ActionArgs) {
     const values = { email: result.data.email, role: result.data.role, clientId: result.data.clientId ?? "" };
     if (result.data.clientId && !(await clientInStudio(user.studioId, result.data.clientId))) return fail({ errors: { clientId: "Choose which client this person belongs to" }, values });
     if (await emailHasAccount(result.data.email)) return fail({ errors: { email: "This e-mail already has a Tidemark account" }, values });
-    const { token } = await createInvitation({ studioId: user.studioId, invitedBy: user.id, ...result.data });
-    // The e-mail issue sends this link; until then the owner passes it on.
-    return data<ActionResult>({ intent, errors: {}, values: {}, inviteLink: `${new URL(request.url).origin}/invitations/${token}` });
+    // The invitation is e-mailed; the link is shown too, for passing on by hand.
+    const { token } = await createInvitation({ studioId: user.studioId, invitedBy: user.id, ...result.data, publicUrl: publicAppUrl() });
+    return data<ActionResult>({ intent, errors: {}, values: {}, inviteLink: invitationLink(new URL(request.url).origin, token) });
   }
   if (intent === "role") {
     const result = parseForm(roleChangeSchema, form);
@@ -148,7 +149,7 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
             </button>
             {invite?.inviteLink && (
               <div className="rounded-md border border-accent/30 bg-accent-wash p-3 text-sm" role="status">
-                <p className="font-medium text-accent-deep">Invitation created. Send this link; it works once, for {INVITATION_DAYS} days:</p>
+                <p className="font-medium text-accent-deep">Invitation created and e-mailed. You can also pass on this link; it works once, for {INVITATION_DAYS} days:</p>
                 <p className="num mt-2 break-all select-all" data-testid="invite-link">
                   {invite.inviteLink}
                 </p>

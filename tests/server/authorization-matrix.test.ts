@@ -47,6 +47,7 @@ import * as renderProgress from "../../app/routes/render-progress.ts";
 import * as downloadRender from "../../app/routes/download.render.ts";
 import * as renderAudio from "../../app/routes/render-audio.tsx";
 import * as compare from "../../app/routes/compare.tsx";
+import * as review from "../../app/routes/review.tsx";
 import * as paymentsWebhook from "../../app/routes/api.payments.webhook.ts";
 import * as releasePackage from "../../app/routes/release-package.ts";
 import * as loudnessReport from "../../app/routes/release-loudness-report.ts";
@@ -178,6 +179,9 @@ const cases: Case[] = [
   // A comment without a time: 400 for whoever may hear the render; a render the viewer may not hear is a 404.
   { route: "…/tracks/:trackId/compare (not sent)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
   { route: "…/tracks/:trackId/compare (sent for review)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
+  { route: "…/tracks/:trackId/review", file: "routes/review.tsx", kind: "loader", handler: review.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, expected: releaseViewers },
+  { route: "…/tracks/:trackId/review (not sent)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
+  { route: "…/tracks/:trackId/review (sent for review)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
   // A public endpoint: the session plays no part, the signature is the credential.
   // "allowed" here means an answer that is neither a redirect nor a 404 — and
   // `answers(400)` makes sure it is the 400 for a missing signature, for everyone.
