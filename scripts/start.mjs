@@ -44,6 +44,8 @@ if (!process.env.DATABASE_URL) {
   env.DATABASE_URL = databaseUrl("tidemark");
 }
 env.TIDEMARK_PUBLIC_URL ??= `http://${env.HOST}:${port}`;
+// The production server wants a sender; the local fake accepts any.
+env.MAIL_FROM ??= "Tidemark <studio@tidemark.test>";
 Object.assign(env, await startFakes(children, "dev", { publicUrl: env.TIDEMARK_PUBLIC_URL }));
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 

@@ -37,6 +37,7 @@ if (!process.env.DATABASE_URL) {
 }
 if (!servicesOnly) rmSync(env.STORAGE_DIR, { recursive: true, force: true });
 env.TIDEMARK_PUBLIC_URL ??= `http://127.0.0.1:${webPort}`;
+env.MAIL_FROM ??= "Tidemark <studio@tidemark.test>";
 Object.assign(env, await startFakes(children, "test", { publicUrl: env.TIDEMARK_PUBLIC_URL }));
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 
