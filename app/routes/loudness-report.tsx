@@ -17,7 +17,8 @@ const fixed = (v: number | null, decimals: number) => (v === null ? "—" : v.to
 
 // Printing drops the navigation and the buttons and keeps the table on paper width.
 const PRINT_CSS = `@media print {
-  nav, header nav, .no-print { display: none !important; }
+  body header:has(nav[aria-label="Main"]), nav, .no-print { display: none !important; }
+  main { max-width: none !important; padding: 0 !important; }
   .report-table { font-size: 9pt; }
   .report-table th, .report-table td { padding: 2pt 4pt; }
   .card { box-shadow: none !important; border: 0 !important; }
