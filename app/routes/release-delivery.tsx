@@ -3,10 +3,10 @@
 // the defaults in first), "Make deliveries" (every track's newest finished
 // print × every format, one queued job each), and the deliveries with their
 // state and warnings. Staff only: clients get their files from the release page.
-import { data, Form, Link } from "react-router";
+import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/release-delivery";
-import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
+import { checkDeliveryFormat, DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { db } from "../lib/db.server.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
@@ -54,7 +54,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       .limit(200)
       .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt"),
   ]);
-  return { release: { id: release.id, title: release.title }, formats, ownFormats: Number(own[0]?.count ?? 0) > 0, deliveries: rows as DeliveryListRow[] };
+  const editId = new URL(request.url).searchParams.get("edit");
+  return { release: { id: release.id, title: release.title }, editing: formats.find((f) => f.id === editId) ?? null, formats, ownFormats: Number(own[0]?.count ?? 0) > 0, deliveries: rows as DeliveryListRow[] };
 }
 
 type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; tracksWithoutPrint: number };
@@ -82,20 +83,31 @@ export async function action({ request, params }: Route.ActionArgs) {
     ceilingDbtp: f.ceilingDbtp,
     ...(f.targetLufs !== undefined ? { targetLufs: f.targetLufs } : {}),
   };
+  const editId = String(form.get("formatId") ?? "");
   try {
-    await db.transaction(async (trx) => {
-      // The first format of the release's own: the studio's defaults come along, so nothing is lost.
+    const found = await db.transaction(async (trx) => {
+      // The first change to the release's own list: the studio's defaults come along, so nothing is lost.
+      const ids = new Map<string, string>();
       const own = await trx("delivery_formats").where({ release_id: release.id }).first("id");
-      if (!own) for (const d of await releaseFormats(release.id, trx)) await addFormat(user.studioId, release.id, d, trx);
-      await addFormat(user.studioId, release.id, format, trx);
+      if (!own) for (const d of await releaseFormats(release.id, trx)) ids.set(d.id, (await addFormat(user.studioId, release.id, d, trx)).id);
+      if (!editId) {
+        await addFormat(user.studioId, release.id, format, trx);
+        return true;
+      }
+      checkDeliveryFormat(format);
+      const updated = await trx("delivery_formats")
+        .where({ id: ids.get(editId) ?? editId, release_id: release.id })
+        .update({ name: format.name, sample_rate_hz: format.sampleRate, bit_depth: String(format.bitDepth), dither: format.dither, ceiling_dbtp: format.ceilingDbtp, target_lufs: format.targetLufs ?? null });
+      return updated === 1;
     });
+    if (!found) return reply({ intent, errors: { form: "That format is not one of this release's." }, values }, 400);
   } catch (error) {
     const message = (error as Error).message;
     if (/delivery_formats|unique|duplicate/i.test(message)) return reply({ intent, errors: { name: "This release already has a format of that name." }, values }, 400);
     if (error instanceof RangeError) return reply({ intent, errors: { form: message }, values }, 400);
     throw error;
   }
-  return reply({ intent });
+  return redirect(`/releases/${release.id}/delivery`);
 }
 
 const RATE_OPTIONS = DELIVERY_SAMPLE_RATES.map((r) => ({ value: String(r), label: `${(r / 1000).toString()} kHz` }));
@@ -106,8 +118,10 @@ const DEPTH_OPTIONS = [
 ];
 
 export default function ReleaseDelivery({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, formats, ownFormats, deliveries } = loaderData;
+  const { release, formats, ownFormats, deliveries, editing } = loaderData;
   const add = actionData?.intent === "add-format" ? actionData : undefined;
+  // Field defaults: what was typed (after a refusal), else the format being edited.
+  const initial = add?.values.name !== undefined ? add.values : editing ? { name: editing.name, sampleRate: String(editing.sampleRate), bitDepth: String(editing.bitDepth), dither: editing.dither, ceilingDbtp: String(editing.ceilingDbtp), targetLufs: editing.targetLufs === undefined ? "" : String(editing.targetLufs) } : undefined;
   const made = actionData?.intent === "make" ? actionData : undefined;
   return (
     <>
@@ -135,6 +149,9 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                 <th scope="col">Dither</th>
                 <th scope="col">Ceiling</th>
                 <th scope="col">Target</th>
+                <th scope="col">
+                  <span className="sr-only">Edit</span>
+                </th>
               </tr>
             </thead>
             <tbody>
@@ -146,26 +163,32 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                   <td>{f.dither === "tpdf" ? "TPDF" : "none"}</td>
                   <td className="num">{f.ceilingDbtp} dBTP</td>
                   <td className="num">{f.targetLufs !== undefined ? `${f.targetLufs} LUFS` : "keep level"}</td>
+                  <td>
+                    <Link to={`?edit=${f.id}#format-form`} className="text-accent-deep underline-offset-4 hover:underline" aria-label={`Edit ${f.name}`}>
+                      Edit
+                    </Link>
+                  </td>
                 </tr>
               ))}
             </tbody>
           </table>
         </div>
-        <Form method="post" className="card grid gap-4 p-5 sm:grid-cols-2 lg:grid-cols-3" noValidate>
+        <Form key={editing?.id ?? `new-${formats.length}`} id="format-form" method="post" className="card grid gap-4 p-5 sm:grid-cols-2 lg:grid-cols-3" noValidate>
           <input type="hidden" name="intent" value="add-format" />
-          <h3 className="font-semibold sm:col-span-2 lg:col-span-3">Add a format</h3>
+          {editing && <input type="hidden" name="formatId" value={editing.id} />}
+          <h3 className="font-semibold sm:col-span-2 lg:col-span-3">{editing ? `Edit ${editing.name}` : "Add a format"}</h3>
           <div className="sm:col-span-2 lg:col-span-3">
             <FormNotice message={add?.errors.form} />
           </div>
-          <TextField label="Name" name="name" defaultValue={add?.values.name} error={add?.errors.name} />
-          <SelectField label="Sample rate" name="sampleRate" options={RATE_OPTIONS} defaultValue={add?.values.sampleRate ?? "48000"} error={add?.errors.sampleRate} />
-          <SelectField label="Bit depth" name="bitDepth" options={DEPTH_OPTIONS} defaultValue={add?.values.bitDepth ?? "24"} error={add?.errors.bitDepth} />
-          <SelectField label="Dither" name="dither" options={[{ value: "tpdf", label: "TPDF" }, { value: "none", label: "None" }]} defaultValue={add?.values.dither ?? "tpdf"} error={add?.errors.dither} />
-          <TextField label="Ceiling (dBTP)" name="ceilingDbtp" inputMode="decimal" defaultValue={add?.values.ceilingDbtp ?? "-1"} error={add?.errors.ceilingDbtp} />
-          <TextField label="Target (LUFS, optional)" name="targetLufs" inputMode="decimal" hint="Empty keeps the print's level." defaultValue={add?.values.targetLufs} error={add?.errors.targetLufs} />
+          <TextField label="Name" name="name" defaultValue={initial?.name} error={add?.errors.name} />
+          <SelectField label="Sample rate" name="sampleRate" options={RATE_OPTIONS} defaultValue={initial?.sampleRate ?? "48000"} error={add?.errors.sampleRate} />
+          <SelectField label="Bit depth" name="bitDepth" options={DEPTH_OPTIONS} defaultValue={initial?.bitDepth ?? "24"} error={add?.errors.bitDepth} />
+          <SelectField label="Dither" name="dither" options={[{ value: "tpdf", label: "TPDF" }, { value: "none", label: "None" }]} defaultValue={initial?.dither ?? "tpdf"} error={add?.errors.dither} />
+          <TextField label="Ceiling (dBTP)" name="ceilingDbtp" inputMode="decimal" defaultValue={initial?.ceilingDbtp ?? "-1"} error={add?.errors.ceilingDbtp} />
+          <TextField label="Target (LUFS, optional)" name="targetLufs" inputMode="decimal" hint="Empty keeps the print's level." defaultValue={initial?.targetLufs} error={add?.errors.targetLufs} />
           <div className="sm:col-span-2 lg:col-span-3">
             <button type="submit" className="btn-quiet">
-              Add format
+              {editing ? "Save format" : "Add format"}
             </button>
           </div>
         </Form>

@@ -110,6 +110,24 @@ describe("delivery page", () => {
     expect(after.formats.at(-1)).toMatchObject({ ceilingDbtp: -1.5, targetLufs: -9 });
   });
 
+  it("edits a format of the release, and refuses one of another release", async () => {
+    const page = (await call(delivery.loader, "engineer", "/delivery")) as { formats: { id: string; name: string }[] };
+    const first = page.formats[0]!;
+    const edit = { intent: "add-format", formatId: first.id, name: `${first.name} (edited)`, sampleRate: "96000", bitDepth: "24", dither: "none", ceilingDbtp: "-2", targetLufs: "" };
+    const saved = (await call(delivery.action, "engineer", "/delivery", edit)) as Response;
+    expect(saved.headers.get("Location")).toBe(`/releases/${fixture.releaseId}/delivery`);
+    const row = await db("delivery_formats").where({ id: first.id }).first();
+    expect(row).toMatchObject({ name: `${first.name} (edited)`, sample_rate_hz: 96000, dither: "none", ceiling_dbtp: -2, target_lufs: null });
+    const editing = (await call(delivery.loader, "engineer", `/delivery?edit=${first.id}`)) as { editing: { id: string } | null };
+    expect(editing.editing?.id).toBe(first.id);
+
+    const [foreign] = await db("delivery_formats").insert({ studio_id: fixture.studioId, release_id: fixture.otherReleaseId, name: "Elsewhere", sample_rate_hz: 48000, bit_depth: "24", dither: "tpdf", ceiling_dbtp: -1, position: 1 }).returning("id");
+    const refused = dataOf<{ errors: Record<string, string> }>(await call(delivery.action, "engineer", "/delivery", { ...edit, formatId: foreign.id, name: "Taken over" }));
+    expect(refused.status).toBe(400);
+    expect(refused.body.errors.form).toMatch(/not one of this release/);
+    expect((await db("delivery_formats").where({ id: foreign.id }).first()).name).toBe("Elsewhere");
+  });
+
   it("queues one delivery per track and format; made, they show with warnings and in the report", async () => {
     const empty = dataOf<{ queued: number; tracksWithoutPrint: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
     expect(empty.body).toMatchObject({ queued: 0, tracksWithoutPrint: 1 });
