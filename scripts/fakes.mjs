@@ -13,7 +13,7 @@ const FAKES = [
   { name: "smtp", script: "scripts/fakes/smtp.ts", ports: { dev: 2525, test: 2535 },
     env: (port) => ({ SMTP_URL: `smtp://127.0.0.1:${port}`, FAKE_SMTP_API: `http://127.0.0.1:${port + 1}` }) },
   { name: "payments", script: "scripts/fakes/payments.ts", ports: { dev: 12111, test: 12121 },
-    env: (port) => ({ STRIPE_API_HOST: "127.0.0.1", STRIPE_API_PORT: String(port), STRIPE_API_PROTOCOL: "http" }) },
+    env: (port) => ({ STRIPE_API_HOST: "127.0.0.1", STRIPE_API_PORT: String(port), STRIPE_API_PROTOCOL: "http", STRIPE_SECRET_KEY: "sk_test_tidemark_local", STRIPE_WEBHOOK_SECRET: "whsec_tidemark_local_fake" }) },
 ];
 
 export async function startFakes(children, mode, { publicUrl } = {}) {
