@@ -24,7 +24,7 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
         <p className="card px-5 py-8 text-center text-ink-soft">Nothing sent yet.</p>
       ) : (
         <div className="card overflow-x-auto">
-          <table className="data-table" aria-label="Outbox">
+          <table className="data-table min-w-[44rem]" aria-label="Outbox">
             <thead>
               <tr>
                 <th scope="col">To</th>
@@ -40,7 +40,7 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
             <tbody>
               {rows.map((r) => (
                 <tr key={r.id} data-outbox-state={r.state}>
-                  <td className="break-all">{r.to}</td>
+                  <td className="whitespace-nowrap">{r.to}</td>
                   <td>{r.subject}</td>
                   <td className="text-ink-soft">{r.kind}</td>
                   <td title={r.lastError ?? undefined}>

@@ -208,7 +208,8 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
               <h2 id="comments" className="text-lg font-semibold">
                 Comments
               </h2>
-              <Form method="post" className="card space-y-2 p-3">
+              {/* A new key once a comment lands empties the form for the next one. */}
+              <Form key={comments.length} method="post" className="card space-y-2 p-3">
                 <input type="hidden" name="intent" value="comment" />
                 <input type="hidden" name="renderId" value={render.id} />
                 <label className="block text-sm">

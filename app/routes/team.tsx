@@ -1,4 +1,4 @@
-import { data, Form } from "react-router";
+import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/team";
 import { requireRole } from "../lib/auth.server.ts";
 import { parseForm, type FieldErrors } from "../lib/forms.ts";
@@ -61,7 +61,15 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
   const role = result?.intent === "role" ? result : undefined;
   return (
     <>
-      <PageHeader title="Team" eyebrow="People and clients of the studio" />
+      <PageHeader
+        title="Team"
+        eyebrow="People and clients of the studio"
+        actions={
+          <Link to="/outbox" className="btn-quiet">
+            Outbox
+          </Link>
+        }
+      />
 
       <section aria-labelledby="members-heading" className="mb-10">
         <h2 id="members-heading" className="mb-3 text-lg font-semibold">
