@@ -30,8 +30,10 @@ const env = z
     WORKER_SWEEP_SECONDS: z.coerce.number().min(0.5).default(5),
     WORKER_SHUTDOWN_GRACE_SECONDS: z.coerce.number().min(0).default(20),
     WORKER_TMP_DIR: z.string().min(1).default(os.tmpdir()),
-    // How often the worker sends what the mail outbox holds.
+    // How often the worker sends what the mail outbox holds; "off" leaves the outbox alone
+    // (tests of the queue that share a database with tests of the outbox).
     MAIL_POLL_SECONDS: z.coerce.number().min(0.5).default(5),
+    WORKER_MAIL_DELIVERY: z.enum(["on", "off"]).default("on"),
   })
   .parse(process.env);
 
@@ -143,7 +145,7 @@ const sweeper = setInterval(() => {
 
 // The worker also delivers the outbox: it runs beside every web server, and
 // the outbox claims rows with a lease, so several workers never send twice.
-const mail = startMailDelivery(db, { intervalMs: env.MAIL_POLL_SECONDS * 1000, log });
+const mail = env.WORKER_MAIL_DELIVERY === "on" ? startMailDelivery(db, { intervalMs: env.MAIL_POLL_SECONDS * 1000, log }) : null;
 
 const slots = Array.from({ length: threads }, () => slot());
 log(`ready: ${threads} thread(s), queues ${settings.renderQueue} and ${settings.analyzeQueue}, storage ${ctx.storage.kind}`);
@@ -161,7 +163,7 @@ async function shutdown(signal: string): Promise<void> {
     await all;
   }
   clearInterval(sweeper);
-  await mail.stop();
+  await mail?.stop();
   await pool.destroy();
   await boss.stop({ graceful: false, wait: true });
   await db.destroy();

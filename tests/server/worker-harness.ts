@@ -98,7 +98,7 @@ export type WorkerProcess = {
 export async function startWorker(env: Record<string, string>): Promise<WorkerProcess> {
   const child = spawn(process.execPath, ["--import", "tsx", "app/jobs/worker.server.ts"], {
     cwd: root,
-    env: { ...process.env, WORKER_THREADS: "1", QUEUE_POLL_SECONDS: "0.2", ...env },
+    env: { ...process.env, WORKER_THREADS: "1", QUEUE_POLL_SECONDS: "0.2", WORKER_MAIL_DELIVERY: "off", ...env },
     stdio: ["ignore", "pipe", "pipe"],
   });
   let output = "";
