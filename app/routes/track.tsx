@@ -140,6 +140,11 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
                 Compare
               </Link>
             )}
+            {renders.length > 0 && (
+              <Link to={`${base}/review`} className="btn-quiet">
+                Review
+              </Link>
+            )}
             {staff && mixes.length > 0 && (
               <Link to={`${base}/renders/new`} className="btn-primary">
                 New render
