@@ -17,6 +17,7 @@ import { action as compareAction } from "./compare.tsx";
 import { formatClock } from "../components/player/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 import { PageHeader } from "../components/page-header.tsx";
+import { CommentThreads } from "../components/review/comment-threads.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
@@ -227,43 +228,7 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
                   Add comment
                 </button>
               </Form>
-              <ol className="space-y-3">
-                {comments.map((thread) => (
-                  <li key={thread.id} className={`card p-3 text-sm ${thread.resolvedAt ? "opacity-70" : ""}`} data-comment={thread.id}>
-                    <p>
-                      <button type="button" className="num text-accent-deep underline-offset-4 hover:underline" onClick={() => seekTo(thread.timeS)}>
-                        {formatClock(thread.timeS)}
-                      </button>{" "}
-                      · <strong>{thread.authorName ?? "Someone"}</strong>
-                      {thread.resolvedAt && <span className="ml-2 text-xs text-ink-soft">resolved</span>}
-                    </p>
-                    <p className="mt-1 whitespace-pre-line">{thread.body}</p>
-                    {thread.replies.map((r) => (
-                      <p key={r.id} className="mt-2 border-l-2 border-rule pl-3 whitespace-pre-line">
-                        <strong>{r.authorName ?? "Someone"}</strong>: {r.body}
-                      </p>
-                    ))}
-                    <div className="mt-2 flex flex-wrap gap-2">
-                      <Form method="post" className="flex flex-1 gap-2">
-                        <input type="hidden" name="intent" value="comment" />
-                        <input type="hidden" name="renderId" value={render.id} />
-                        <input type="hidden" name="parentId" value={thread.id} />
-                        <input name="body" required aria-label="Reply" placeholder="Reply" className="field-input" />
-                        <button type="submit" className="btn-quiet" disabled={busy}>
-                          Reply
-                        </button>
-                      </Form>
-                      <Form method="post">
-                        <input type="hidden" name="intent" value={thread.resolvedAt ? "reopen" : "resolve"} />
-                        <input type="hidden" name="commentId" value={thread.id} />
-                        <button type="submit" className="btn-quiet" disabled={busy}>
-                          {thread.resolvedAt ? "Reopen" : "Resolve"}
-                        </button>
-                      </Form>
-                    </div>
-                  </li>
-                ))}
-              </ol>
+              <CommentThreads comments={comments} renderId={render.id} busy={busy} onSeek={seekTo} />
             </section>
           </aside>
         </div>
