@@ -1,6 +1,5 @@
 import { useEffect } from "react";
 import { data, Link, redirect, useRevalidator } from "react-router";
-import { MaxFileSizeExceededError, parseFormData } from "@mjackson/form-data-parser";
 import type { Route } from "./+types/track";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
@@ -8,7 +7,8 @@ import { isStaff, STAFF } from "../lib/roles.ts";
 import { getTrack } from "../models/track.server.ts";
 import { listMixVersions } from "../models/mix.server.ts";
 import { listTrackRenders } from "../lib/render-views.server.ts";
-import { formatBytes, receiveMixUpload, tooLargeMessage, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
+import { formatBytes, receiveMixUpload, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
+import { MultipartError, parseMultipartFiles } from "../lib/multipart-files.server.ts";
 import { formatIsrc } from "../schemas/track.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { MixUploadForm } from "../components/upload/mix-upload-form.tsx";
@@ -47,20 +47,15 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  const maxBytes = uploadMaxBytes();
   const uploaded: number[] = [];
   try {
-    // The parser keeps one part in memory before handing it over; the script
-    // path (routes/mix-upload.ts) streams instead. This is only the fallback.
-    await parseFormData(request, { maxFileSize: maxBytes, maxFiles: 20 }, async (file) => {
-      if (!file.name && file.size === 0) return null;
-      const mix = await receiveMixUpload({ trackId: track.id, userId: user.id, fileName: file.name, body: file.stream() });
+    await parseMultipartFiles(request, { maxFiles: 20 }, async (fileName, stream) => {
+      const mix = await receiveMixUpload({ trackId: track.id, userId: user.id, fileName, body: stream });
       uploaded.push(mix.version);
-      return null;
     });
   } catch (error) {
-    if (error instanceof MaxFileSizeExceededError) return data({ error: tooLargeMessage(maxBytes), uploaded }, { status: 413 });
     if (error instanceof UploadError) return data({ error: error.message, uploaded }, { status: error.status });
+    if (error instanceof MultipartError) return data({ error: error.message, uploaded }, { status: 400 });
     throw error;
   }
   if (uploaded.length === 0) return data({ error: "Choose a WAV file to upload.", uploaded }, { status: 400 });
