@@ -9,6 +9,7 @@ import type { Route } from "./+types/compare";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff } from "../lib/roles.ts";
+import { publicAppUrl } from "../lib/billing/links.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { alignTraces, type AlignedTraces, type RenderTraces } from "../lib/compare/traces.ts";
 import { labelChanges, type LabelledChange } from "../lib/compare/chain-changes.ts";
@@ -95,7 +96,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   // A render of another track is treated as missing.
   const mine = (await listReviewableRenders(user, track.id)).some((r) => r.id === renderId);
   if (!mine && intent !== "resolve" && intent !== "reopen") throw notFound();
-  const link = `${url.origin}/releases/${release.id}/tracks/${track.id}/compare?a=${renderId}`;
+  // E-mailed links use the public address, not the one this request came in on (a proxy's).
+  const link = `${publicAppUrl()}/releases/${release.id}/tracks/${track.id}/compare?a=${renderId}`;
   try {
     if (intent === "send") await sendForReview({ renderId, senderId: user.id, message: String(form.get("message") ?? ""), link });
     else if (intent === "approve") await approveRender({ renderId, userId: user.id, link });

@@ -1,6 +1,7 @@
 // The compare page's loader and action and the render audio route, called as
 // React Router calls them, with a persona's session cookie. Rows of our own
 // fixture studio only; stored files under our own keys, removed afterwards.
+import { publicAppUrl } from "../../app/lib/billing/links.ts";
 import { randomUUID } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
@@ -98,7 +99,8 @@ describe("compare page", () => {
     expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.print, message: "Full print for you" }))).toBe("allowed");
     const mail = await db("outbox_emails").where({ studio_id: f.studioId, kind: "review_request" }).first("text", "to_address");
     expect(mail.to_address).toBe(f.users.client.email);
-    expect(mail.text).toContain(`http://tidemark.test${path(`?a=${renders.print}`)}`);
+    // The e-mailed link uses the public address, whatever host the request came in on.
+    expect(mail.text).toContain(`${publicAppUrl()}${path(`?a=${renders.print}`)}`);
 
     const page = (await load("client")) as Awaited<ReturnType<typeof loader>>;
     expect(page.choices.map((c) => c.id)).toEqual([renders.print]);
