@@ -4,7 +4,7 @@
 import { mkdtemp, rm } from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
 import { createRender, type Render } from "../../app/models/render.server.ts";
@@ -45,7 +45,10 @@ describe("two worker processes", () => {
     const done = await Promise.all(renders.map((r) => waitForRender(r.id, "done", 120_000)));
     expect(done.map((r) => r.attempts)).toEqual([1, 1, 1, 1, 1, 1]);
 
-    const handled = workers.map((w) => renders.filter((r) => w.output().includes(`render job ${r.jobId} `)).length);
+    const handledBy = () => workers.map((w) => renders.filter((r) => w.output().includes(`render job ${r.jobId} `)).length);
+    // A worker's log line can reach our pipe a moment after its row says done.
+    await vi.waitFor(() => expect(handledBy()[0] + handledBy()[1]).toBe(6), { timeout: 10_000, interval: 100 });
+    const handled = handledBy();
     expect(handled[0] + handled[1]).toBe(6);
     expect(handled[0]).toBeGreaterThan(0);
     expect(handled[1]).toBeGreaterThan(0);
