@@ -32,6 +32,7 @@ import { formatClock } from "../components/player/format.ts";
 import { TraceCharts } from "../components/player/trace-charts.tsx";
 import { PageHeader } from "../components/page-header.tsx";
 import { CommentThreads } from "../components/review/comment-threads.tsx";
+import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
 const MAX_TRACE_POINTS = 1500;
 
@@ -251,26 +252,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
                   </button>
                 </Form>
               ) : underReview && review.status === "sent" ? (
-                <>
-                  <Form method="post">
-                    <input type="hidden" name="intent" value="approve" />
-                    <input type="hidden" name="renderId" value={a.id} />
-                    <button type="submit" className="btn-primary" disabled={busy}>
-                      Approve this master
-                    </button>
-                  </Form>
-                  <Form method="post" className="space-y-2">
-                    <input type="hidden" name="intent" value="changes" />
-                    <input type="hidden" name="renderId" value={a.id} />
-                    <label className="block text-sm">
-                      What should change?
-                      <textarea name="note" rows={3} required maxLength={4000} className="field-input mt-1" />
-                    </label>
-                    <button type="submit" className="btn-quiet" disabled={busy}>
-                      Ask for changes
-                    </button>
-                  </Form>
-                </>
+                <VerdictForms renderId={a.id} busy={busy} />
               ) : (
                 <p className="text-sm text-ink-soft">{review.status === "approved" ? "You approved this master." : "Nothing is waiting for your verdict."}</p>
               )}

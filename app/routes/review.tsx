@@ -18,6 +18,7 @@ import { formatClock } from "../components/player/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 import { PageHeader } from "../components/page-header.tsx";
 import { CommentThreads } from "../components/review/comment-threads.tsx";
+import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
@@ -174,26 +175,7 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
               </h2>
               {review.status === "changes_asked" && review.changesNote && <blockquote className="border-l-2 border-accent pl-3 text-sm">{review.changesNote}</blockquote>}
               {!staff && underReview && review.status === "sent" ? (
-                <>
-                  <Form method="post">
-                    <input type="hidden" name="intent" value="approve" />
-                    <input type="hidden" name="renderId" value={render.id} />
-                    <button type="submit" className="btn-primary" disabled={busy}>
-                      Approve this master
-                    </button>
-                  </Form>
-                  <Form method="post" className="space-y-2">
-                    <input type="hidden" name="intent" value="changes" />
-                    <input type="hidden" name="renderId" value={render.id} />
-                    <label className="block text-sm">
-                      What should change?
-                      <textarea name="note" rows={3} required maxLength={4000} className="field-input mt-1" />
-                    </label>
-                    <button type="submit" className="btn-quiet" disabled={busy}>
-                      Ask for changes
-                    </button>
-                  </Form>
-                </>
+                <VerdictForms renderId={render.id} busy={busy} />
               ) : (
                 <p className="text-sm text-ink-soft">
                   {review.status === "approved" && review.approvedRenderId === render.id

@@ -42,3 +42,16 @@ export function assertKey(key: string): void {
     throw new Error(`storage key "${key}" is not valid: use slash-separated names of letters, digits, ".", "_" and "-"`);
   }
 }
+
+/** `exists` for a driver, from its `stat`: a missing key is false, other errors are thrown. */
+export function existsBy(stat: (key: string) => Promise<StoredObject>): (key: string) => Promise<boolean> {
+  return async (key) => {
+    try {
+      await stat(key);
+      return true;
+    } catch (error) {
+      if (error instanceof StorageNotFoundError) return false;
+      throw error;
+    }
+  };
+}

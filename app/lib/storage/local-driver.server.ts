@@ -7,7 +7,7 @@ import { randomBytes } from "node:crypto";
 import path from "node:path";
 import { Readable } from "node:stream";
 import { pipeline } from "node:stream/promises";
-import { assertKey, StorageNotFoundError, type ByteRange, type PutOptions, type PutSource, type StorageDriver, type StoredObject } from "./driver.server.ts";
+import { assertKey, existsBy, StorageNotFoundError, type ByteRange, type PutOptions, type PutSource, type StorageDriver, type StoredObject } from "./driver.server.ts";
 
 export function createLocalDriver(rootDir: string): StorageDriver {
   const root = path.resolve(rootDir);
@@ -55,15 +55,7 @@ export function createLocalDriver(rootDir: string): StorageDriver {
 
     stat: statOf,
 
-    async exists(key: string) {
-      try {
-        await statOf(key);
-        return true;
-      } catch (error) {
-        if (error instanceof StorageNotFoundError) return false;
-        throw error;
-      }
-    },
+    exists: existsBy(statOf),
 
     async delete(key: string) {
       await rm(pathOf(key), { force: true });

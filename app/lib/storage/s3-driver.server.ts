@@ -19,7 +19,7 @@ import {
   S3Client,
   UploadPartCommand,
 } from "@aws-sdk/client-s3";
-import { assertKey, StorageNotFoundError, type ByteRange, type PutOptions, type PutSource, type StorageDriver, type StoredObject } from "./driver.server.ts";
+import { assertKey, existsBy, StorageNotFoundError, type ByteRange, type PutOptions, type PutSource, type StorageDriver, type StoredObject } from "./driver.server.ts";
 
 /** 8 MiB: above S3's 5 MiB minimum part, and 10 000 parts reach 80 GB. */
 export const PART_BYTES = 8 * 1024 * 1024;
@@ -138,15 +138,7 @@ export function createS3Driver(settings: S3Settings): StorageDriver {
 
     stat: statOf,
 
-    async exists(key: string) {
-      try {
-        await statOf(key);
-        return true;
-      } catch (error) {
-        if (error instanceof StorageNotFoundError) return false;
-        throw error;
-      }
-    },
+    exists: existsBy(statOf),
 
     async delete(key: string) {
       assertKey(key);
