@@ -4,6 +4,7 @@ import { type RouteConfig, index, layout, prefix, route } from "@react-router/de
 export default [
   route("sign-in", "routes/sign-in.tsx"),
   route("sign-out", "routes/sign-out.tsx"),
+  route("studio", "routes/studio-switch.ts"),
   route("invitations/:token", "routes/invitation.tsx"),
   route("renders/:renderId/audio", "routes/render-audio.tsx"),
   route("api/payments/webhook", "routes/api.payments.webhook.ts"),

@@ -4,7 +4,8 @@ import { redirect } from "react-router";
 import { Authenticator } from "remix-auth";
 import { FormStrategy } from "remix-auth-form";
 import { signInSchema } from "../schemas/sign-in.ts";
-import { getCurrentUser, findUserForSignIn, normalizeEmail, type CurrentUser } from "../models/user.server.ts";
+import { getCurrentUser, findUserForSignIn, membershipStudioForRelease, normalizeEmail, type CurrentUser } from "../models/user.server.ts";
+import { isUuid } from "./ids.ts";
 import { clearFailedSignIns, isSignInThrottled, recordFailedSignIn } from "../models/sign-in-attempt.server.ts";
 import { getReleaseForUser, type ReleaseDetail } from "../models/release.server.ts";
 import { burnPasswordCheck, verifyPassword } from "./password.server.ts";
@@ -114,6 +115,30 @@ export async function requireReleaseAccess(
 ): Promise<{ user: CurrentUser; release: ReleaseDetail }> {
   const user = roles ? await requireRole(request, roles) : await requireUser(request);
   const release = releaseId ? await getReleaseForUser(user, releaseId) : undefined;
-  if (!release) throw notFound();
+  if (!release) {
+    if (request.method === "GET" && releaseId) await followIntoOtherStudio(request, user, releaseId, roles);
+    throw notFound();
+  }
   return { user, release };
+}
+
+/**
+ * A link (an e-mail, a bookmark) into a release of another studio this user
+ * also belongs to: switch the session to that studio and load the same URL
+ * again. Only when the membership there would grant access, so no loop.
+ */
+async function followIntoOtherStudio(request: Request, user: CurrentUser, releaseId: string, roles?: readonly Role[]): Promise<void> {
+  if (!isUuid(releaseId)) return;
+  const studioId = await membershipStudioForRelease(user.id, releaseId);
+  if (!studioId || studioId === user.studioId) return;
+  const there = await getCurrentUser(user.id, studioId);
+  if (!there || (roles && !roles.includes(there.role)) || !(await getReleaseForUser(there, releaseId))) return;
+  throw await switchStudioRedirect(request, studioId, new URL(request.url).pathname + new URL(request.url).search);
+}
+
+/** Sets the session's studio (the caller has checked the membership) and redirects. */
+export async function switchStudioRedirect(request: Request, studioId: string, redirectTo: string): Promise<Response> {
+  const session = await getSession(request);
+  session.set("studioId", studioId);
+  return redirect(safeRedirectPath(redirectTo), { headers: { "Set-Cookie": await sessionStorage.commitSession(session) } });
 }

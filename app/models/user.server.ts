@@ -23,7 +23,7 @@ export async function findUserForSignIn(email: string) {
     .whereRaw("lower(email) = ?", [normalizeEmail(email)])
     .first<{ id: string; password_hash: string } | undefined>();
   if (!user) return undefined;
-  // First membership; a person in several studios picks one in a later issue.
+  // The oldest membership; someone in several studios switches from the header.
   const membership = await db("memberships")
     .select("studio_id")
     .where({ user_id: user.id })
@@ -57,4 +57,27 @@ export async function getCurrentUser(userId: string, studioId: string): Promise<
 
 export async function updateUserName(userId: string, name: string): Promise<void> {
   await db("users").where({ id: userId }).update({ name });
+}
+
+export type MembershipChoice = { studioId: string; studioName: string; role: Role; clientName: string | null };
+
+/** Every studio this user belongs to, oldest membership first (the sign-in default). */
+export async function listMemberships(userId: string): Promise<MembershipChoice[]> {
+  return db("memberships as m")
+    .join("studios as s", "s.id", "m.studio_id")
+    .leftJoin("clients as c", "c.id", "m.client_id")
+    .where("m.user_id", userId)
+    .orderBy("m.created_at")
+    .select("m.studio_id as studioId", "s.name as studioName", "m.role", "c.name as clientName");
+}
+
+/** The studio a release belongs to, when this user is a member there (for links into another studio). */
+export async function membershipStudioForRelease(userId: string, releaseId: string): Promise<string | undefined> {
+  const row = await db("releases as r")
+    .join("memberships as m", function () {
+      this.on("m.studio_id", "r.studio_id").andOnVal("m.user_id", userId);
+    })
+    .where("r.id", releaseId)
+    .first<{ studio_id: string } | undefined>("r.studio_id");
+  return row?.studio_id;
 }

@@ -2,16 +2,23 @@ import { Form, NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/workspace";
 import { requireUser } from "../lib/auth.server.ts";
 import { isStaff } from "../lib/roles.ts";
-
-export async function loader({ request }: Route.LoaderArgs) {
-  const user = await requireUser(request);
-  return { user: { name: user.name, role: user.role, studioName: user.studioName, clientName: user.clientName } };
-}
+import { listMemberships } from "../models/user.server.ts";
+import { StudioChooser } from "../components/studio-chooser.tsx";
 
 const ROLE_LABELS = { owner: "Owner", engineer: "Engineer", client: "Client" } as const;
 
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  const memberships = await listMemberships(user.id);
+  const studios =
+    memberships.length > 1
+      ? memberships.map((m) => ({ studioId: m.studioId, label: `${m.studioName} · ${m.clientName ?? ROLE_LABELS[m.role]}` }))
+      : [];
+  return { user: { name: user.name, role: user.role, studioId: user.studioId, studioName: user.studioName, clientName: user.clientName }, studios };
+}
+
 export default function Workspace({ loaderData }: Route.ComponentProps) {
-  const { user } = loaderData;
+  const { user, studios } = loaderData;
   const nav = [
     { to: "/", label: "Dashboard", end: true, show: true },
     { to: "/releases", label: "Releases", end: false, show: isStaff(user.role) },
@@ -42,6 +49,7 @@ export default function Workspace({ loaderData }: Route.ComponentProps) {
             ))}
           </nav>
           <div className="ml-auto flex items-center gap-3">
+            {studios.length > 1 ? <StudioChooser choices={studios} currentStudioId={user.studioId} /> : null}
             <div className="text-right text-sm leading-tight">
               <p className="font-medium">{user.name}</p>
               <p className="text-ink-faint">

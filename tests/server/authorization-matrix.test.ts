@@ -7,6 +7,7 @@ import { createInvitation } from "../../app/models/invitation.server.ts";
 import routes from "../../app/routes.ts";
 import * as signIn from "../../app/routes/sign-in.tsx";
 import * as signOut from "../../app/routes/sign-out.tsx";
+import * as studioSwitch from "../../app/routes/studio-switch.ts";
 import * as invitation from "../../app/routes/invitation.tsx";
 import * as workspace from "../../app/routes/workspace.tsx";
 import * as dashboard from "../../app/routes/dashboard.tsx";
@@ -112,6 +113,9 @@ const cases: Case[] = [
   { route: "/sign-in", file: "routes/sign-in.tsx", kind: "action", handler: signIn.action as Handler, path: () => "/sign-in", form: { email: "" }, expected: everyone("allowed") },
   { route: "/sign-out", file: "routes/sign-out.tsx", kind: "loader", handler: signOut.loader as Handler, path: () => "/sign-out", expected: everyone("home") },
   { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOut.action as Handler, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
+  { route: "/studio", file: "routes/studio-switch.ts", kind: "loader", handler: studioSwitch.loader as Handler, path: () => "/studio", expected: everyone("home") },
+  // Switching into the second studio: only its own engineer is a member there.
+  { route: "/studio", file: "routes/studio-switch.ts", kind: "action", handler: studioSwitch.action as Handler, path: () => "/studio", form: () => ({ studioId: fixture.otherStudioId }), expected: { ...everyone("404"), signedOut: "sign-in", otherStudio: "home" } },
   { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), expected: signedOutOnly },
   { route: "/invitations/:token (unknown)", file: "routes/invitation.tsx", kind: "loader", handler: invitation.loader as Handler, path: () => "/invitations/unknown", params: () => ({ token: "x".repeat(43) }), expected: everyone("404") },
   { route: "/invitations/:token", file: "routes/invitation.tsx", kind: "action", handler: invitation.action as Handler, path: () => `/invitations/${invitationToken}`, params: () => ({ token: invitationToken }), form: { name: "" }, expected: signedOutOnly },
