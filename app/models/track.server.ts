@@ -41,6 +41,26 @@ export async function updateTrack(releaseId: string, trackId: string, input: Tra
   await touchRelease(releaseId);
 }
 
+/**
+ * Swaps a track with its neighbour above or below, in one transaction (the
+ * unique position constraint is deferrable for exactly this). False when the
+ * track is already first or last, or not on this release.
+ */
+export async function moveTrack(releaseId: string, trackId: string, direction: "up" | "down"): Promise<boolean> {
+  return db.transaction(async (trx) => {
+    // Row locks on the release's tracks: two reorders at once run one after the other.
+    const tracks = await trx("tracks").select("id", "position").where({ release_id: releaseId }).orderBy("position").forUpdate();
+    const index = tracks.findIndex((t: { id: string }) => t.id === trackId);
+    const neighbour = index < 0 ? undefined : tracks[direction === "up" ? index - 1 : index + 1];
+    if (!neighbour) return false;
+    await trx.raw("SET CONSTRAINTS tracks_release_position_unique DEFERRED");
+    await trx("tracks").where({ id: trackId }).update({ position: neighbour.position, updated_at: trx.fn.now() });
+    await trx("tracks").where({ id: neighbour.id }).update({ position: tracks[index].position, updated_at: trx.fn.now() });
+    await trx("releases").where({ id: releaseId }).update({ updated_at: trx.fn.now() });
+    return true;
+  });
+}
+
 async function touchRelease(releaseId: string): Promise<void> {
   await db("releases").where({ id: releaseId }).update({ updated_at: db.fn.now() });
 }

@@ -1,12 +1,12 @@
-import { Link } from "react-router";
+import { Form, Link, data, useNavigation } from "react-router";
 import type { Route } from "./+types/release";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
-import { isStaff } from "../lib/roles.ts";
+import { isStaff, STAFF } from "../lib/roles.ts";
 import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { listSentForRelease, reviewStatuses } from "../models/review-feed.server.ts";
-import { listTracks } from "../models/track.server.ts";
+import { listTracks, moveTrack } from "../models/track.server.ts";
 import { RELEASE_KIND_LABELS } from "../schemas/release.ts";
-import { formatIsrc } from "../schemas/track.ts";
+import { formatIsrc, trackMoveSchema } from "../schemas/track.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { StatusBadge } from "../components/status-badge.tsx";
 import { releaseBillingData } from "./release-billing.server.ts";
@@ -19,9 +19,40 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return { billing, release, tracks, staff: isStaff(user.role), reviews: await reviewStatuses(tracks.map((t) => t.id)), sent: await listSentForRelease(release.id) };
 }
 
+// The running order: staff move a track one place up or down.
+export async function action({ request, params }: Route.ActionArgs) {
+  const { release } = await requireReleaseAccess(request, params.releaseId, STAFF);
+  const form = await request.formData();
+  const parsed = trackMoveSchema.safeParse({ trackId: form.get("trackId"), direction: form.get("direction") });
+  if (!parsed.success) return data({ error: parsed.error.issues[0].message }, { status: 400 });
+  const moved = await moveTrack(release.id, parsed.data.trackId, parsed.data.direction);
+  if (!moved) return data({ error: "That track cannot move further." }, { status: 400 });
+  return { error: null };
+}
+
+function MoveButton({ trackId, title, direction, disabled }: { trackId: string; title: string; direction: "up" | "down"; disabled: boolean }) {
+  return (
+    <Form method="post" className="inline">
+      <input type="hidden" name="trackId" value={trackId} />
+      <button
+        type="submit"
+        name="direction"
+        value={direction}
+        disabled={disabled}
+        aria-label={`Move “${title}” ${direction}`}
+        title={direction === "up" ? "Earlier in the running order" : "Later in the running order"}
+        className="rounded px-2 py-1 text-ink-soft hover:bg-paper-deep disabled:opacity-30"
+      >
+        {direction === "up" ? "↑" : "↓"}
+      </button>
+    </Form>
+  );
+}
+
 export default function Release({ loaderData }: Route.ComponentProps) {
   const { release, tracks, staff, reviews, sent } = loaderData;
   const { billing } = loaderData;
+  const busy = useNavigation().state !== "idle";
   return (
     <>
       <PageHeader
@@ -66,10 +97,15 @@ export default function Release({ loaderData }: Route.ComponentProps) {
                 <th scope="col">Title</th>
                 <th scope="col">ISRC</th>
                 <th scope="col">Review</th>
+                {staff && (
+                  <th scope="col" className="w-24">
+                    <span className="sr-only">Running order</span>
+                  </th>
+                )}
               </tr>
             </thead>
             <tbody>
-              {tracks.map((track) => (
+              {tracks.map((track, index) => (
                 <tr key={track.id}>
                   <td className="num text-right text-ink-soft">{track.position}</td>
                   <td>
@@ -81,6 +117,12 @@ export default function Release({ loaderData }: Route.ComponentProps) {
                   <td className="whitespace-nowrap" data-review-status={reviews[track.id]}>
                     {reviews[track.id] ? REVIEW_STATUS_LABEL[reviews[track.id]!] : "—"}
                   </td>
+                  {staff && (
+                    <td className="whitespace-nowrap text-right">
+                      <MoveButton trackId={track.id} title={track.title} direction="up" disabled={busy || index === 0} />
+                      <MoveButton trackId={track.id} title={track.title} direction="down" disabled={busy || index === tracks.length - 1} />
+                    </td>
+                  )}
                 </tr>
               ))}
             </tbody>

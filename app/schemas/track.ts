@@ -27,3 +27,9 @@ export type TrackInput = z.output<typeof trackSchema>;
 export function formatIsrc(isrc: string): string {
   return `${isrc.slice(0, 2)}-${isrc.slice(2, 5)}-${isrc.slice(5, 7)}-${isrc.slice(7)}`;
 }
+
+/** Moving a track one place up or down the release's running order. */
+export const trackMoveSchema = z.object({
+  trackId: z.uuid({ message: "Choose a track." }),
+  direction: z.enum(["up", "down"], { error: "Move up or down." }),
+});

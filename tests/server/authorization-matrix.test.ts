@@ -125,6 +125,7 @@ const cases: Case[] = [
   { route: "/releases/new", file: "routes/release-new.tsx", kind: "loader", handler: releaseNew.loader as Handler, path: () => "/releases/new", expected: staff },
   { route: "/releases/new", file: "routes/release-new.tsx", kind: "action", handler: releaseNew.action as Handler, path: () => "/releases/new", form: { title: "" }, expected: staff },
   { route: "/releases/:releaseId", file: "routes/release.tsx", kind: "loader", handler: release.loader as Handler, path: (f) => `/releases/${f.releaseId}`, params: rel, expected: releaseViewers },
+  { route: "/releases/:releaseId", file: "routes/release.tsx", kind: "action", handler: release.action as Handler, path: (f) => `/releases/${f.releaseId}`, params: rel, form: { trackId: "" }, expected: releaseStaff },
   { route: "/releases/:releaseId/edit", file: "routes/release-edit.tsx", kind: "loader", handler: releaseEdit.loader as Handler, path: (f) => `/releases/${f.releaseId}/edit`, params: rel, expected: releaseStaff },
   { route: "/releases/:releaseId/edit", file: "routes/release-edit.tsx", kind: "action", handler: releaseEdit.action as Handler, path: (f) => `/releases/${f.releaseId}/edit`, params: rel, form: { title: "" }, expected: releaseStaff },
   { route: "/releases/:releaseId/tracks/new", file: "routes/track-new.tsx", kind: "loader", handler: trackNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/new`, params: rel, expected: releaseStaff },
