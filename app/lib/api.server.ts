@@ -7,6 +7,11 @@ import { getCurrentUser, type CurrentUser } from "../models/user.server.ts";
 import { findTokenOwner } from "../models/api-token.server.ts";
 import { getUser } from "./auth.server.ts";
 import type { Role } from "./roles.ts";
+import { env } from "./env.server.ts";
+import { RateLimiter } from "./rate-limit.ts";
+
+/** Scripts with a token share one bucket per member; pages (the session cookie) are not limited here. */
+export const apiRateLimiter = new RateLimiter(env.apiRatePerMinute);
 
 export type ApiFieldErrors = Record<string, string>;
 
@@ -28,6 +33,10 @@ export async function requireApiUser(request: Request, roles?: readonly Role[]):
     const match = /^Bearer\s+(\S+)$/i.exec(header.trim());
     const owner = match ? await findTokenOwner(match[1]) : undefined;
     if (!owner) throw apiError(401, "The API token is not valid (it may have been revoked)");
+    const decision = apiRateLimiter.take(`${owner.userId}:${owner.studioId}`);
+    if (!decision.ok) {
+      throw json({ error: `Too many requests with this token; retry in ${decision.retryAfterS} s` }, 429, { "Retry-After": String(decision.retryAfterS) });
+    }
     user = await getCurrentUser(owner.userId, owner.studioId);
     if (!user) throw apiError(401, "The API token's member no longer belongs to the studio");
   } else {

@@ -11,6 +11,8 @@ const schema = z.object({
   TIDEMARK_INSECURE_COOKIES: z.enum(["0", "1"]).optional(),
   // Trust the first X-Forwarded-For hop as the client's address (behind a proxy only).
   TIDEMARK_TRUST_PROXY: z.enum(["0", "1"]).optional(),
+  // Requests a minute per API token's member (a burst of as many); 0 turns the limit off.
+  TIDEMARK_API_RATE_PER_MINUTE: z.coerce.number().int().min(0).max(1_000_000).default(600),
 });
 
 export type Env = {
@@ -18,6 +20,7 @@ export type Env = {
   sessionSecret: string;
   secureCookies: boolean;
   trustProxy: boolean;
+  apiRatePerMinute: number;
 };
 
 /** Parses an environment; throws where production would be unsafe. Exported for tests. */
@@ -40,6 +43,7 @@ export function parseEnv(source: Record<string, string | undefined>, warn: (mess
     sessionSecret,
     secureCookies: values.NODE_ENV === "production" && values.TIDEMARK_INSECURE_COOKIES !== "1",
     trustProxy: values.TIDEMARK_TRUST_PROXY === "1",
+    apiRatePerMinute: values.TIDEMARK_API_RATE_PER_MINUTE,
   };
 }
 
