@@ -4,7 +4,9 @@
 // lands at the same place on the print. A new comment e-mails the other side:
 // the client's people when the studio writes, the engineer who sent the
 // render (else the owners) when the client writes, and the thread's starter
-// when someone else replies.
+// when someone else replies. A mix is the studio's own material (clients
+// hear renders only): its comments are the staff's notes, written and read
+// by staff alone, and e-mail no one but a thread's starter.
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { queueEmail } from "../lib/mail/mailer.server.ts";
@@ -92,6 +94,7 @@ export async function addComment(input: NewComment): Promise<{ comment: Comment;
     const ctx = (await trackContext(t, target.trackId))!;
     const author = await partOf(t, ctx, input.authorId);
     if (!author.part) throw new ReviewForbiddenError("not one of this release's people");
+    if (input.mixId && author.part !== "staff") throw new ReviewForbiddenError("a mix's comments are the studio's");
 
     let parent: CommentRow | undefined;
     let timeS: number | null = null;
@@ -122,7 +125,7 @@ export async function addComment(input: NewComment): Promise<{ comment: Comment;
     const comment = fromRow({ ...row, author_name: author.name }, parent?.time_s ?? undefined);
 
     const recipients = new Map<string, Person>();
-    const others = author.part === "staff" ? await clientPeople(t, ctx) : await staffToNotify(t, ctx, input.renderId ?? null);
+    const others = input.mixId ? [] : author.part === "staff" ? await clientPeople(t, ctx) : await staffToNotify(t, ctx, input.renderId ?? null);
     for (const p of others) recipients.set(p.id, p);
     if (parent?.author_id) {
       const starter = await t("users").where({ id: parent.author_id }).first<Person | undefined>("id", "email", "name");
@@ -154,13 +157,21 @@ export async function listComments(target: CommentTarget): Promise<CommentThread
   return [...threads.values()].sort((a, b) => a.timeS - b.timeS || a.createdAt.getTime() - b.createdAt.getTime());
 }
 
+/** What a comment is pinned to (a render or a mix of a track); undefined for an unknown id. */
+export async function getCommentTarget(commentId: string): Promise<{ id: string; trackId: string; renderId: string | null; mixId: string | null } | undefined> {
+  const row = await db("comments").where({ id: commentId }).first<{ id: string; track_id: string; render_id: string | null; mix_id: string | null } | undefined>("id", "track_id", "render_id", "mix_id");
+  return row && { id: row.id, trackId: row.track_id, renderId: row.render_id, mixId: row.mix_id };
+}
+
 /** Marks a thread resolved (or open again); anyone of the release's people may. */
 export async function setCommentResolved(commentId: string, userId: string, resolved: boolean): Promise<Comment> {
   return db.transaction(async (t) => {
     const row = await t("comments").where({ id: commentId }).first<CommentRow | undefined>("*");
     if (!row) throw new ReviewForbiddenError("no such comment");
     const ctx = (await trackContext(t, row.track_id))!;
-    if (!(await partOf(t, ctx, userId)).part) throw new ReviewForbiddenError("not one of this release's people");
+    const { part } = await partOf(t, ctx, userId);
+    if (!part) throw new ReviewForbiddenError("not one of this release's people");
+    if (row.mix_id && part !== "staff") throw new ReviewForbiddenError("a mix's comments are the studio's");
     if (row.parent_id) throw new ReviewActionError("Resolve the thread, not a reply.");
     const [updated] = await t("comments")
       .where({ id: commentId })

@@ -2,7 +2,7 @@
 // timeline of comment markers (a click on a marker plays from there; a click
 // on the timeline picks the moment of a new comment), comments with replies
 // and resolving, and the verdict: approve, or ask for changes with a note.
-// The steps themselves are the compare page's action, so both pages agree.
+// The steps are the same action as the compare page's, so both pages agree.
 import { useEffect, useRef, useState } from "react";
 import { Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/review";
@@ -13,7 +13,7 @@ import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { listComments } from "../models/comment.server.ts";
 import { getTrackReview, listReviewableRenders } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
-import { action as compareAction } from "./compare.tsx";
+import { reviewPageAction } from "../lib/review/page-action.server.ts";
 import { formatClock } from "../components/player/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 import { PageHeader } from "../components/page-header.tsx";
@@ -48,7 +48,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action(args: Route.ActionArgs) {
-  return compareAction(args as unknown as Parameters<typeof compareAction>[0]);
+  return reviewPageAction(args);
 }
 
 export default function Review({ loaderData, actionData }: Route.ComponentProps) {
@@ -210,7 +210,7 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
                   Add comment
                 </button>
               </Form>
-              <CommentThreads comments={comments} renderId={render.id} busy={busy} onSeek={seekTo} />
+              <CommentThreads comments={comments} target={{ renderId: render.id }} busy={busy} onSeek={seekTo} />
             </section>
           </aside>
         </div>

@@ -129,8 +129,8 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
             Renders
           </h2>
           <div className="flex flex-wrap gap-2">
-            {/* Staff and the client alike: the compare page shows each only the renders they may hear. */}
-            {renders.length > 0 && (
+            {/* Staff and the client alike: the compare page shows each only what they may hear (mixes for staff only). */}
+            {(renders.length > 0 || (staff && mixes.length > 1)) && (
               <Link to={`${base}/compare`} className="btn-quiet">
                 Compare
               </Link>

@@ -12,6 +12,7 @@ import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixtu
 
 let f: Fixture;
 let mixId: string;
+let mix2Id: string;
 const keys: string[] = [];
 const renders: Record<"preview" | "print", string> = { preview: "", print: "" };
 const wavBytes = Uint8Array.from({ length: 4000 }, (_, i) => i % 251);
@@ -58,6 +59,15 @@ beforeAll(async () => {
     .insert({ track_id: f.trackId, version: 1, original_name: "shoreline.wav", storage_key: `test-review/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48_000, channels: 2, bit_depth: 24, sample_format: "int", frames: 48_000 * 20 })
     .returning("id");
   mixId = mix.id;
+  // The mix's analysis, as the worker leaves it: figures and a short-term curve on a 10 ms grid (null where silent).
+  const mixCurve = Array.from({ length: 2000 }, (_, j) => (j < 5 ? null : -18));
+  await db("mixes")
+    .where({ id: mixId })
+    .update({ analysis_state: "done", analysis: JSON.stringify({ integratedLufs: -18, loudnessRangeLu: 6, truePeakDbtp: -3, samplePeakDbfs: -3.2, maxShortTermLufs: -15, maxMomentaryLufs: -13, correlation: 0.8, gridMs: 10, shortTermLufs: mixCurve }) });
+  const [mix2] = await db("mixes")
+    .insert({ track_id: f.trackId, version: 2, original_name: "shoreline-v2.wav", storage_key: `test-review/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48_000, channels: 2, bit_depth: 24, sample_format: "int", frames: 48_000 * 20 })
+    .returning("id");
+  mix2Id = mix2.id;
   // Print: 20 s; the limiter works hardest at 11.00 s. Preview of 10–12 s: the same moment is its own 1.00 s.
   const printGr = Array.from({ length: 2000 }, (_, j) => (j === 1100 ? 4 : 0.5));
   const previewGr = Array.from({ length: 200 }, (_, j) => (j === 100 ? 3 : 0.25));
@@ -68,6 +78,7 @@ beforeAll(async () => {
 afterAll(async () => {
   if (f) {
     await db("outbox_emails").where({ studio_id: f.studioId }).delete();
+    await db("comments").where({ track_id: f.trackId }).delete();
     await db("renders").where({ mix_id: mixId }).delete();
   }
   await destroyFixture(f);
@@ -84,7 +95,7 @@ describe("compare page", () => {
     const peak = (key: string) => rows.reduce((best, r) => ((r[key] ?? -1) > (best[key] ?? -1) ? r : best)).timeS;
     expect(peak("A:s0:gr")).toBe(11);
     expect(peak("B:s0:gr")).toBe(11);
-    expect(page.changes.map((c) => [c.label, c.beforeText, c.afterText])).toEqual([["Stage 1 · limit · ceilingDbtp", "-1 dBTP", "-1.5 dBTP"]]);
+    expect(page.changes!.map((c) => [c.label, c.beforeText, c.afterText])).toEqual([["Stage 1 · limit · ceilingDbtp", "-1 dBTP", "-1.5 dBTP"]]);
   });
 
   it("shows a client only renders sent to them, without traces, and lets them comment and give a verdict", async () => {
@@ -119,6 +130,89 @@ describe("compare page", () => {
     expect(empty).toMatchObject({ status: 409, body: { error: "Say what should change." } });
     expect(await outcomeOf(() => act("client", { intent: "approve", renderId: renders.print }))).toBe("allowed");
     expect(((await load("client")) as Awaited<ReturnType<typeof loader>>).review.status).toBe("approved");
+  });
+});
+
+describe("compare page with mixes", () => {
+  it("lists a track's mixes for staff beside the renders, and pairs the newest render with its own mix by default", async () => {
+    const page = (await load("engineer")) as Awaited<ReturnType<typeof loader>>;
+    expect(page.choices.map((c) => c.key)).toEqual([`render:${renders.preview}`, `render:${renders.print}`, `mix:${mix2Id}`, `mix:${mixId}`]);
+    expect(page.a?.key).toBe(`render:${renders.preview}`);
+    expect(page.b).toMatchObject({ key: `mix:${mixId}`, type: "mix", offsetS: 0, integratedLufs: -18 });
+    expect(page.b?.audioUrl).toBe(`/releases/${f.releaseId}/tracks/${f.trackId}/mixes/${mixId}/download`);
+    // No chains to set side by side.
+    expect(page.changes).toBeNull();
+    // A render's gain reduction; the mix brings only its loudness line.
+    expect(page.aligned!.panels.map((p) => [p.id, Boolean(p.a), Boolean(p.b)])).toEqual([
+      ["s0:gr", true, false],
+      ["loudness", false, true],
+    ]);
+    expect(page.aligned!.series.filter((s) => s.source === "B").map((s) => s.kind)).toEqual(["shortTermLufs"]);
+    // The analyses of both, the render's output and the mix's own.
+    expect(page.analyses.a).toMatchObject({ integratedLufs: -11 });
+    expect(page.analyses.b).toMatchObject({ integratedLufs: -18, truePeakDbtp: -3, correlation: 0.8 });
+  });
+
+  it("compares two versions of a mix, picked by their keys; a client never gets mixes", async () => {
+    const page = (await load("owner", `?a=mix:${mix2Id}&b=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
+    expect([page.a?.key, page.b?.key]).toEqual([`mix:${mix2Id}`, `mix:${mixId}`]);
+    // v2 has no analysis yet: no loudness to match with, no traces; the page still loads.
+    expect(page.a?.integratedLufs).toBeNull();
+    expect(page.aligned).toBeNull();
+    expect(page.analyses.a).toBeNull();
+    const client = (await load("client", `?a=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
+    expect(client.choices.every((c) => c.type === "render")).toBe(true);
+    expect(client.a?.type).toBe("render");
+    // A bare id (the e-mailed links) still names a render; a malformed key is ignored.
+    const bare = (await load("engineer", `?a=${renders.print}&b=nonsense`)) as Awaited<ReturnType<typeof loader>>;
+    expect([bare.a?.key, bare.b?.key]).toEqual([`render:${renders.print}`, `mix:${mixId}`]);
+  });
+
+  it("keeps comments on a mix in the studio: staff only, no e-mail to the client", async () => {
+    const mailsBefore = await db("outbox_emails").where({ studio_id: f.studioId, to_address: f.users.client.email }).count<{ count: string }[]>("* as count");
+    expect(await outcomeOf(() => act("engineer", { intent: "comment", mixId, time: "0:05", body: "Kick is boomy around 60 Hz" }))).toBe("allowed");
+    const [row] = await db("comments").where({ mix_id: mixId }).select("id", "time_s");
+    expect(row.time_s).toBe(5);
+    const mailsAfter = await db("outbox_emails").where({ studio_id: f.studioId, to_address: f.users.client.email }).count<{ count: string }[]>("* as count");
+    expect(mailsAfter[0].count).toBe(mailsBefore[0].count);
+    const page = (await load("engineer", `?a=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
+    expect(page.comments.map((c) => c.body)).toEqual(["Kick is boomy around 60 Hz"]);
+    expect(await outcomeOf(() => act("client", { intent: "comment", mixId, time: "0:05", body: "?" }))).toBe("404");
+    expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: row.id }))).toBe("404");
+    expect(await outcomeOf(() => act("engineer", { intent: "resolve", commentId: row.id }))).toBe("allowed");
+    expect((await db("comments").where({ id: row.id }).first("resolved_at")).resolved_at).not.toBeNull();
+    // A render and a mix at once, or neither, is not a comment's target.
+    expect(dataOf(await act("engineer", { intent: "comment", mixId, renderId: renders.print, time: "1", body: "x" })).status).toBe(400);
+    expect(dataOf(await act("engineer", { intent: "comment", time: "1", body: "x" })).status).toBe(400);
+  });
+});
+
+describe("compare actions: ids and who may act", () => {
+  it("answers 400 with the field for a malformed id, 404 for an id that names nothing of this track's", async () => {
+    const bad = dataOf<{ fieldErrors: Record<string, string> }>(await act("engineer", { intent: "resolve", commentId: "not-an-id" }));
+    expect(bad.status).toBe(400);
+    expect(bad.body.fieldErrors.commentId).toBeTruthy();
+    expect(dataOf(await act("engineer", { intent: "send", renderId: "123" })).status).toBe(400);
+    expect(dataOf(await act("engineer", { intent: "dance" })).status).toBe(400);
+    expect(await outcomeOf(() => act("engineer", { intent: "reopen", commentId: randomUUID() }))).toBe("404");
+    expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: randomUUID() }))).toBe("404");
+    expect(await outcomeOf(() => act("engineer", { intent: "comment", mixId: randomUUID(), time: "1", body: "x" }))).toBe("404");
+  });
+
+  it("lets a client resolve or reopen a thread only on a render sent to them, as for commenting", async () => {
+    // A thread on the preview, which was never sent to the client.
+    expect(await outcomeOf(() => act("engineer", { intent: "comment", renderId: renders.preview, time: "0:10.5", body: "Limiter pumps here" }))).toBe("allowed");
+    const hidden = await db("comments").where({ render_id: renders.preview }).first("id");
+    expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: hidden.id }))).toBe("404");
+    expect(await outcomeOf(() => act("otherClient", { intent: "resolve", commentId: hidden.id }))).toBe("404");
+    expect(await outcomeOf(() => act("otherStudio", { intent: "resolve", commentId: hidden.id }))).toBe("404");
+    expect((await db("comments").where({ id: hidden.id }).first("resolved_at")).resolved_at).toBeNull();
+    // The print was sent (above): its thread is the client's to resolve and reopen.
+    const shared = await db("comments").where({ render_id: renders.print }).whereNull("parent_id").first("id");
+    expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: shared.id }))).toBe("allowed");
+    expect((await db("comments").where({ id: shared.id }).first("resolved_at")).resolved_at).not.toBeNull();
+    expect(await outcomeOf(() => act("client", { intent: "reopen", commentId: shared.id }))).toBe("allowed");
+    expect((await db("comments").where({ id: shared.id }).first("resolved_at")).resolved_at).toBeNull();
   });
 });
 

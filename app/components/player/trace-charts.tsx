@@ -1,8 +1,9 @@
-// Gain-reduction traces of the two renders over the mix's time axis, one
+// Gain-reduction traces of the two sources over the mix's time axis, one
 // chart per stage (and band), gain reduction as a filled area hanging down
 // from the zero line; short-term loudness as lines. Rows come from
 // alignTraces (app/lib/compare/traces.ts); the player's position is drawn as
-// a cursor on every chart.
+// a cursor on every chart. A mix has no gain reduction (nothing processed
+// it): the legend says so and only its loudness line is drawn.
 import { Area, CartesianGrid, ComposedChart, Line, ReferenceLine, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import type { AlignedTraces } from "../../lib/compare/traces.ts";
 import { formatClock } from "./format.ts";
@@ -10,7 +11,15 @@ import { formatClock } from "./format.ts";
 const A_COLOUR = "var(--color-accent)";
 const B_COLOUR = "var(--color-ink)";
 
-export function TraceCharts({ aligned, positionS, labels }: { aligned: AlignedTraces; positionS?: number | null; labels: { a: string; b: string } }) {
+export type TraceChartsProps = {
+  aligned: AlignedTraces;
+  positionS?: number | null;
+  labels: { a: string; b: string };
+  /** False for a mix: nothing processed it, so it has a loudness line and no gain reduction. */
+  processed?: { a: boolean; b: boolean };
+};
+
+export function TraceCharts({ aligned, positionS, labels, processed = { a: true, b: true } }: TraceChartsProps) {
   if (aligned.rows.length === 0 || aligned.panels.length === 0) {
     return <p className="text-sm text-ink-soft">No traces were stored for these renders.</p>;
   }
@@ -19,7 +28,9 @@ export function TraceCharts({ aligned, positionS, labels }: { aligned: AlignedTr
     <div className="space-y-4" data-testid="trace-charts">
       <p className="text-xs text-ink-soft">
         <span className="mr-3 inline-block h-2 w-4 align-middle" style={{ background: A_COLOUR }} /> A · {labels.a}
+        {!processed.a && <span data-testid="legend-a-unprocessed"> (no processing: loudness only)</span>}
         <span className="mr-3 ml-6 inline-block h-2 w-4 align-middle" style={{ background: B_COLOUR, opacity: 0.6 }} /> B · {labels.b}
+        {!processed.b && <span data-testid="legend-b-unprocessed"> (no processing: loudness only)</span>}
         <span className="ml-6">Grid {aligned.gridMs} ms</span>
       </p>
       {aligned.panels.map((panel) => {

@@ -1,5 +1,5 @@
-// The comment threads of a render, with replies and resolve/reopen; shared by
-// the compare and review pages, whose actions take the same intents.
+// The comment threads of a render or a mix, with replies and resolve/reopen;
+// shared by the compare and review pages, whose actions take the same intents.
 import { Form } from "react-router";
 import { formatClock } from "../player/format.ts";
 
@@ -12,7 +12,14 @@ export type ThreadView = {
   replies: { id: string; body: string; authorName: string | null }[];
 };
 
-export function CommentThreads({ comments, renderId, busy, onSeek }: { comments: ThreadView[]; renderId: string; busy: boolean; onSeek?: (timeS: number) => void }) {
+export type CommentTargetView = { renderId: string } | { mixId: string };
+
+/** The hidden field that names what a comment form posts about. */
+export function TargetInputs({ target }: { target: CommentTargetView }) {
+  return "renderId" in target ? <input type="hidden" name="renderId" value={target.renderId} /> : <input type="hidden" name="mixId" value={target.mixId} />;
+}
+
+export function CommentThreads({ comments, target, busy, onSeek }: { comments: ThreadView[]; target: CommentTargetView; busy: boolean; onSeek?: (timeS: number) => void }) {
   return (
     <ol className="space-y-3">
       {comments.map((thread) => (
@@ -37,7 +44,7 @@ export function CommentThreads({ comments, renderId, busy, onSeek }: { comments:
           <div className="mt-2 flex flex-wrap gap-2">
             <Form method="post" className="flex flex-1 gap-2">
               <input type="hidden" name="intent" value="comment" />
-              <input type="hidden" name="renderId" value={renderId} />
+              <TargetInputs target={target} />
               <input type="hidden" name="parentId" value={thread.id} />
               <input name="body" required aria-label="Reply" placeholder="Reply" className="field-input" />
               <button type="submit" className="btn-quiet" disabled={busy}>

@@ -1,0 +1,125 @@
+// The sources a viewer may compare on a track: its finished renders the
+// viewer may hear (app/models/review.server.ts decides which) and, for the
+// studio's staff only, its mix versions (clients get renders, never the
+// originals). Each comes with what the page needs: a label, where its 0 s
+// sits on the mix's time axis, its integrated loudness for level matching,
+// the URL its audio streams from, and on demand its analysis and traces.
+import { Readable } from "node:stream";
+import { db } from "../lib/db.server.ts";
+import { storage } from "../lib/storage/storage.server.ts";
+import { isStaff } from "../lib/roles.ts";
+import type { RenderTraces } from "../lib/compare/traces.ts";
+import { formatSourceKey, type SourceType } from "../lib/compare/sources.ts";
+import { formatClock } from "../components/player/format.ts";
+import { getMix, listMixVersions, type Mix } from "./mix.server.ts";
+import { listReviewableRenders, type ReviewableRender, type Viewer } from "./review.server.ts";
+
+export type CompareSource = {
+  key: string;
+  type: SourceType;
+  id: string;
+  /** A render's mix, or the mix itself. */
+  mixId: string;
+  label: string;
+  /** Where the source's 0 s sits on the mix's time axis: a preview's region start, else 0. */
+  offsetS: number;
+  integratedLufs: number | null;
+  sentForReview: boolean;
+  audioUrl: string;
+  render: ReviewableRender | null;
+  /** A mix source's row; its analysis without the short-term curve (sourceTraces reads that). */
+  mix: Mix | null;
+};
+
+const finiteOrNull = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : null);
+
+export const renderLabel = (r: Pick<ReviewableRender, "kind" | "region" | "mixVersion" | "revision">) =>
+  `${r.kind === "print" ? "Print" : `Preview ${formatClock(r.region?.startS ?? 0)}–${formatClock(r.region?.endS ?? 0)}`} · mix v${r.mixVersion} · chain r${r.revision}`;
+
+export const mixLabel = (m: Pick<Mix, "version" | "originalName">) => `Mix v${m.version} · ${m.originalName}`;
+
+/** Renders newest first, then (staff) mixes newest first. */
+export async function listCompareSources(viewer: Viewer, track: { id: string; releaseId: string }): Promise<CompareSource[]> {
+  const renders = await listReviewableRenders(viewer, track.id);
+  const mixes = isStaff(viewer.role) ? await listMixVersions(track.id) : [];
+  return [
+    ...renders.map(
+      (r): CompareSource => ({
+        key: formatSourceKey({ type: "render", id: r.id }),
+        type: "render",
+        id: r.id,
+        mixId: r.mixId,
+        label: renderLabel(r),
+        offsetS: r.region?.startS ?? 0,
+        integratedLufs: r.integratedLufs,
+        sentForReview: r.sentForReview,
+        audioUrl: `/renders/${r.id}/audio`,
+        render: r,
+        mix: null,
+      }),
+    ),
+    ...mixes.map(
+      (m): CompareSource => ({
+        key: formatSourceKey({ type: "mix", id: m.id }),
+        type: "mix",
+        id: m.id,
+        mixId: m.id,
+        label: mixLabel(m),
+        offsetS: 0,
+        integratedLufs: m.analysisState === "done" ? finiteOrNull((m.analysis as { integratedLufs?: unknown } | null)?.integratedLufs) : null,
+        sentForReview: false,
+        // The staff download route answers byte ranges, which the player's progressive loading uses.
+        audioUrl: `/releases/${track.releaseId}/tracks/${track.id}/mixes/${m.id}/download`,
+        render: null,
+        mix: m,
+      }),
+    ),
+  ];
+}
+
+/** The figures of a source's analysis: a render's output, or the mix's own (without its curve). */
+export type SourceAnalysis = Partial<
+  Record<"integratedLufs" | "loudnessRangeLu" | "truePeakDbtp" | "samplePeakDbfs" | "maxShortTermLufs" | "maxMomentaryLufs" | "correlation", number | null>
+>;
+
+const ANALYSIS_FIELDS = ["integratedLufs", "loudnessRangeLu", "truePeakDbtp", "samplePeakDbfs", "maxShortTermLufs", "maxMomentaryLufs", "correlation"] as const;
+
+function figures(analysis: unknown): SourceAnalysis | null {
+  if (!analysis || typeof analysis !== "object") return null;
+  const out: SourceAnalysis = {};
+  for (const field of ANALYSIS_FIELDS) out[field] = finiteOrNull((analysis as Record<string, unknown>)[field]);
+  return out;
+}
+
+export async function sourceAnalysis(source: CompareSource): Promise<SourceAnalysis | null> {
+  if (source.type === "render") {
+    const row = await db("renders").where({ id: source.id }).first<{ analysis: unknown } | undefined>(db.raw("output_analysis - 'shortTermLufs' AS analysis"));
+    return figures(row?.analysis);
+  }
+  return source.mix?.analysisState === "done" ? figures(source.mix.analysis) : null;
+}
+
+async function readStoredTraces(key: string | null): Promise<RenderTraces | null> {
+  if (!key) return null;
+  try {
+    const stream = await storage().get(key);
+    const text = await new Response(Readable.toWeb(stream) as ReadableStream<Uint8Array>).text();
+    const parsed = JSON.parse(text) as RenderTraces;
+    return Array.isArray(parsed?.stages) && typeof parsed.gridMs === "number" ? parsed : null;
+  } catch {
+    return null; // Traces are a help, not a requirement: the player works without them.
+  }
+}
+
+/**
+ * A source's traces: a render's stored gain reduction and short-term
+ * loudness; for a mix, no stages (nothing processed it) and the short-term
+ * curve of its analysis.
+ */
+export async function sourceTraces(source: CompareSource): Promise<RenderTraces | null> {
+  if (source.type === "render") return readStoredTraces(source.render?.tracesKey ?? null);
+  const mix = await getMix(source.id);
+  const analysis = mix?.analysisState === "done" ? (mix.analysis as { gridMs?: unknown; shortTermLufs?: unknown } | null) : null;
+  if (!analysis || typeof analysis.gridMs !== "number" || !Array.isArray(analysis.shortTermLufs)) return null;
+  return { gridMs: analysis.gridMs, stages: [], shortTermLufs: analysis.shortTermLufs as (number | null)[] };
+}
