@@ -33,12 +33,17 @@ export async function listOutbox(studioId: string, limit = 200): Promise<OutboxR
   }));
 }
 
+/** True where mail goes to the local fake SMTP server (development and tests), which the outbox page can show. */
+export function fakeSmtpInUse(env: Record<string, string | undefined> = process.env): boolean {
+  return Boolean(env.FAKE_SMTP_API);
+}
+
 export type FakeInboxMessage = { id: string; to: string[]; subject: string; receivedAt: string; text: string };
 
 /** The fake SMTP server's messages for these addresses, newest first; null when no fake is configured. */
 export async function fakeInbox(addresses: Set<string>, env: Record<string, string | undefined> = process.env): Promise<{ messages: FakeInboxMessage[]; error: string | null } | null> {
-  const api = env.FAKE_SMTP_API;
-  if (!api) return null;
+  if (!fakeSmtpInUse(env)) return null;
+  const api = env.FAKE_SMTP_API!;
   try {
     const response = await fetch(`${api.replace(/\/+$/, "")}/messages`, { signal: AbortSignal.timeout(3000) });
     if (!response.ok) return { messages: [], error: `The fake answered ${response.status}.` };

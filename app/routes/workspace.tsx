@@ -2,6 +2,7 @@ import { Form, NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/workspace";
 import { requireUser } from "../lib/auth.server.ts";
 import { isStaff } from "../lib/roles.ts";
+import { fakeSmtpInUse } from "../models/outbox.server.ts";
 import { listMemberships } from "../models/user.server.ts";
 import { StudioChooser } from "../components/studio-chooser.tsx";
 
@@ -14,16 +15,22 @@ export async function loader({ request }: Route.LoaderArgs) {
     memberships.length > 1
       ? memberships.map((m) => ({ studioId: m.studioId, label: `${m.studioName} · ${m.clientName ?? ROLE_LABELS[m.role]}` }))
       : [];
-  return { user: { name: user.name, role: user.role, studioId: user.studioId, studioName: user.studioName, clientName: user.clientName }, studios };
+  return {
+    user: { name: user.name, role: user.role, studioId: user.studioId, studioName: user.studioName, clientName: user.clientName },
+    studios,
+    // The outbox is in the navigation where the fake SMTP server catches the mail (development, tests); elsewhere Team links it.
+    showOutbox: user.role === "owner" && fakeSmtpInUse(),
+  };
 }
 
 export default function Workspace({ loaderData }: Route.ComponentProps) {
-  const { user, studios } = loaderData;
+  const { user, studios, showOutbox } = loaderData;
   const nav = [
     { to: "/", label: "Dashboard", end: true, show: true },
     { to: "/releases", label: "Releases", end: false, show: isStaff(user.role) },
     { to: "/templates", label: "Templates", end: false, show: isStaff(user.role) },
     { to: "/team", label: "Team", end: false, show: user.role === "owner" },
+    { to: "/outbox", label: "Outbox", end: false, show: showOutbox },
     { to: "/settings", label: "Settings", end: false, show: true },
   ].filter((item) => item.show);
   return (

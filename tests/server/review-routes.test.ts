@@ -10,6 +10,7 @@ import * as releasePage from "../../app/routes/release.tsx";
 import * as reviewPage from "../../app/routes/review.tsx";
 import * as dashboard from "../../app/routes/dashboard.tsx";
 import * as outbox from "../../app/routes/outbox.tsx";
+import * as workspace from "../../app/routes/workspace.tsx";
 import { addStoredRender, type StoredRender } from "./download-fixture.ts";
 import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 
@@ -99,6 +100,19 @@ describe("review in the browser", () => {
     expect(page.rows.map((r) => r.kind).sort()).toEqual(["comment", "review_changes", "review_request", "review_request"]);
     expect(page.rows.every((r) => r.to.endsWith("@fixture.test"))).toBe(true);
     expect(await outcomeOf(() => call(outbox.loader, "engineer", "/outbox", {}))).toBe("404");
+  });
+
+  it("the main navigation links the outbox for the owner only where the fake SMTP server is in use", async () => {
+    const nav = async (persona: Persona) => ((await call(workspace.loader, persona, "/", {})) as Awaited<ReturnType<typeof workspace.loader>>).showOutbox;
+    expect(await nav("owner")).toBe(false);
+    process.env.FAKE_SMTP_API = "http://127.0.0.1:9";
+    try {
+      expect(await nav("owner")).toBe(true);
+      expect(await nav("engineer")).toBe(false);
+      expect(await nav("client")).toBe(false);
+    } finally {
+      delete process.env.FAKE_SMTP_API;
+    }
   });
 
   it("an invitation is e-mailed with its link when a public address is given", async () => {
