@@ -1,6 +1,7 @@
 // The API's record lookups, with the pages' rules: staff see their studio's
-// records, a client member only its client's releases (and their tracks and
-// renders); everything else, including a malformed id, is a JSON 404.
+// records, a client member only its client's releases and their tracks, and
+// of their renders only those sent for review (render-visibility.server.ts);
+// everything else, including a malformed id, is a JSON 404.
 import { apiNotFound } from "./api.server.ts";
 import { isUuid } from "./ids.ts";
 import { isStaff } from "./roles.ts";
@@ -12,6 +13,7 @@ import { getTrack, type Track } from "../models/track.server.ts";
 import { getMix, type Mix } from "../models/mix.server.ts";
 import { getRender, type Render } from "../models/render.server.ts";
 import { getRevision, type ChainRevision } from "../models/chain.server.ts";
+import { mayViewRender } from "./render-visibility.server.ts";
 
 export async function releaseFor(user: CurrentUser, releaseId: string | undefined): Promise<ReleaseDetail> {
   const release = isUuid(releaseId) ? await getReleaseForUser(user, releaseId) : undefined;
@@ -38,7 +40,9 @@ export async function mixFor(user: CurrentUser, mixId: string | undefined): Prom
 export async function renderFor(user: CurrentUser, renderId: string | undefined): Promise<{ release: ReleaseDetail; track: Track; mix: Mix; render: Render }> {
   const render = isUuid(renderId) ? await getRender(renderId) : undefined;
   if (!render) throw apiNotFound();
-  return { ...(await mixFor(user, render.mixId)), render };
+  const access = await mixFor(user, render.mixId);
+  if (!(await mayViewRender(user, render.id))) throw apiNotFound();
+  return { ...access, render };
 }
 
 export async function chainFor(user: CurrentUser, chainId: string | undefined): Promise<ChainPlace> {

@@ -1,6 +1,8 @@
 // Access to a track's mixes and renders by their ids in the path: the release
 // check first (requireReleaseAccess), then that the track is the release's
-// and the mix or render the track's. Anything else is a 404.
+// and the mix or render the track's, and for a render the visibility rule
+// (render-visibility.server.ts: a client sees only what was sent for review).
+// Anything else is a 404.
 import { requireReleaseAccess } from "./auth.server.ts";
 import { notFound } from "./http.server.ts";
 import { isUuid } from "./ids.ts";
@@ -8,6 +10,7 @@ import type { Role } from "./roles.ts";
 import { getTrack, type Track } from "../models/track.server.ts";
 import { getMix, type Mix } from "../models/mix.server.ts";
 import { getRender, type Render } from "../models/render.server.ts";
+import { mayViewRender } from "./render-visibility.server.ts";
 
 type Params = { releaseId?: string; trackId?: string; mixId?: string; renderId?: string };
 
@@ -30,5 +33,6 @@ export async function requireTrackRender(request: Request, params: Params, roles
   const render: Render | undefined = isUuid(params.renderId) ? await getRender(params.renderId) : undefined;
   const mix = render ? await getMix(render.mixId) : undefined;
   if (!render || !mix || mix.trackId !== access.track.id) throw notFound();
+  if (!(await mayViewRender(access.user, render.id))) throw notFound();
   return { ...access, render, mix };
 }

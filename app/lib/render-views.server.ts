@@ -2,6 +2,7 @@
 // and chain name, and the chains a render may use (the track's own and the
 // studio's templates, each at its latest revision).
 import { db } from "./db.server.ts";
+import { rendersWithRelease, whereRenderVisible, type RenderViewer } from "./render-visibility.server.ts";
 import { listTemplates, listTrackChains, type Chain } from "../models/chain.server.ts";
 import type { RenderKind, RenderState } from "../models/render.server.ts";
 
@@ -19,17 +20,18 @@ export type RenderListItem = {
   error: string | null;
 };
 
-export async function listTrackRenders(trackId: string): Promise<RenderListItem[]> {
-  const rows = await db("renders as r")
-    .join("mixes as m", "m.id", "r.mix_id")
-    .join("chain_revisions as cr", "cr.id", "r.chain_revision_id")
+/** The track's renders this viewer may see (render-visibility.server.ts), newest first. */
+export async function listTrackRenders(trackId: string, viewer: RenderViewer): Promise<RenderListItem[]> {
+  const query = rendersWithRelease()
+    .join("chain_revisions as cr", "cr.id", "rd.chain_revision_id")
     .join("chains as c", "c.id", "cr.chain_id")
     .where("m.track_id", trackId)
-    .orderBy("r.queued_at", "desc")
+    .orderBy("rd.queued_at", "desc")
     .select(
-      "r.id", "r.kind", "r.state", "r.progress", "r.region_start_s", "r.region_end_s", "r.target_lufs", "r.queued_at", "r.error",
+      "rd.id", "rd.kind", "rd.state", "rd.progress", "rd.region_start_s", "rd.region_end_s", "rd.target_lufs", "rd.queued_at", "rd.error",
       "m.version as mix_version", "c.name as chain_name", "cr.revision as chain_revision",
     );
+  const rows: Record<string, any>[] = await whereRenderVisible(query, viewer);
   return rows.map((row) => ({
     id: row.id,
     kind: row.kind,

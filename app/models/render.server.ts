@@ -5,6 +5,7 @@
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { cancelJob, enqueueRender, queueSettings } from "../jobs/queue.server.ts";
+import { rendersWithRelease, whereRenderVisible, type RenderViewer } from "../lib/render-visibility.server.ts";
 import { PREVIEW_WINDOW_S, type RenderResult } from "../../dsp/render/render-file.ts";
 
 export type RenderState = "queued" | "running" | "done" | "failed" | "cancelled";
@@ -171,12 +172,14 @@ export async function getRenderStatus(id: string): Promise<RenderStatus | undefi
 }
 
 /** A track's renders over all its mix versions, newest first. */
-export async function listRendersForTrack(trackId: string): Promise<(Render & { mixVersion: number })[]> {
-  const rows = await db("renders as r")
-    .join("mixes as m", "m.id", "r.mix_id")
+/** A track's renders, newest first; with a viewer, only those the visibility rule lets them see. */
+export async function listRendersForTrack(trackId: string, viewer?: RenderViewer): Promise<(Render & { mixVersion: number })[]> {
+  const query = rendersWithRelease()
     .where({ "m.track_id": trackId })
-    .orderBy("r.queued_at", "desc")
-    .select<(RenderRow & { mix_version: number })[]>("r.*", "m.version as mix_version");
+    .orderBy("rd.queued_at", "desc")
+    .select<(RenderRow & { mix_version: number })[]>("rd.*", "m.version as mix_version");
+  if (viewer) whereRenderVisible(query, viewer);
+  const rows = await query;
   return rows.map((row) => ({ ...renderFromRow(row), mixVersion: row.mix_version }));
 }
 

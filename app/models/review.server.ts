@@ -9,6 +9,7 @@ import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { queueEmail } from "../lib/mail/mailer.server.ts";
 import { approvedEmail, changesRequestedEmail, renderForReviewEmail } from "../lib/mail/templates.server.ts";
+import { whereRenderVisible } from "../lib/render-visibility.server.ts";
 import { applyReviewEvent, deriveReviewState, type ReviewEvent, type ReviewState } from "../lib/review/state.ts";
 
 type Db = Knex | Knex.Transaction;
@@ -280,7 +281,7 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
     .join("releases as r", "r.id", "t.release_id")
     .join("chain_revisions as cr", "cr.id", "rd.chain_revision_id")
     .join("chains as c", "c.id", "cr.chain_id")
-    .where({ "t.id": trackId, "rd.state": "done", "r.studio_id": viewer.studioId })
+    .where({ "t.id": trackId, "rd.state": "done" })
     .orderBy([{ column: "rd.finished_at", order: "desc" }, { column: "rd.id" }])
     .select(
       "rd.id",
@@ -300,10 +301,8 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
       "rd.traces_key",
       db.raw("EXISTS (SELECT 1 FROM review_requests rq WHERE rq.render_id = rd.id) AS sent_for_review"),
     );
-  if (viewer.role === "client") {
-    query.where("r.client_id", viewer.clientId ?? "00000000-0000-0000-0000-000000000000").whereExists(db("review_requests as rq").whereRaw("rq.render_id = rd.id"));
-  }
-  const rows = await query;
+  // The one visibility rule (a client: only what was sent to them for review).
+  const rows = await whereRenderVisible(query, viewer);
   return rows.map((row: Record<string, any>) => ({
     id: row.id,
     kind: row.kind,

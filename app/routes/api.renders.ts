@@ -1,4 +1,5 @@
-// GET /api/renders?trackId=…: a track's renders, newest first.
+// GET /api/renders?trackId=…: a track's renders the caller may see, newest first
+// (a client: those sent for review; app/lib/render-visibility.server.ts).
 // POST: queue a render of a mix through a chain revision (staff).
 import type { Route } from "./+types/api.renders";
 import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
@@ -14,7 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     const trackId = new URL(request.url).searchParams.get("trackId");
     if (!trackId) return apiError(400, "Name the track", { trackId: "is required (?trackId=…)" });
     const { track } = await trackFor(user, trackId);
-    const renders = await listRendersForTrack(track.id);
+    const renders = await listRendersForTrack(track.id, user);
     return json({ renders: renders.map((r) => ({ ...renderView(r), mixVersion: r.mixVersion })) });
   });
 }

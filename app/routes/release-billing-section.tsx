@@ -2,6 +2,7 @@
 // voids the invoice; the client pays it on the hosted payment page; the
 // final files (package, deliveries) open to the client once it is paid.
 import { Form, Link } from "react-router";
+import { FINALS_LOCKED_MESSAGE } from "../lib/billing/finals.ts";
 import { formatCents } from "../lib/billing/settings-form.ts";
 import type { ReleaseBilling } from "./release-billing.server.ts";
 
@@ -119,7 +120,7 @@ export function ReleaseBillingSection({ releaseId, billing }: { releaseId: strin
         </h2>
         <div className="card flex flex-wrap items-center gap-3 p-5 text-sm">
           {!billing.finalsOpen ? (
-            <p className="text-ink-soft">The final files unlock once the invoice is paid. Previews stay open for review.</p>
+            <p className="text-ink-soft">{FINALS_LOCKED_MESSAGE} Previews stay open for review.</p>
           ) : billing.hasDeliveries ? (
             <a href={`/releases/${releaseId}/package.zip`} className="btn-primary" download>
               Download all finals (zip)

@@ -4,12 +4,14 @@
 import type { CurrentUser } from "../models/user.server.ts";
 import { db } from "../lib/db.server.ts";
 import { isStaff } from "../lib/roles.ts";
+import { finalsOpenFor } from "../lib/render-visibility.server.ts";
 import { getInvoiceForRelease, isReleasePaid } from "../models/invoice.server.ts";
 
 export async function releaseBillingData(releaseId: string, user: Pick<CurrentUser, "role">, search: URLSearchParams) {
-  const [found, paid, delivered] = await Promise.all([
+  const [found, paid, finalsOpen, delivered] = await Promise.all([
     getInvoiceForRelease(releaseId),
     isReleasePaid(releaseId),
+    finalsOpenFor(user, releaseId),
     db("deliveries").where({ release_id: releaseId, state: "done" }).first("id"),
   ]);
   const staff = isStaff(user.role);
@@ -24,7 +26,7 @@ export async function releaseBillingData(releaseId: string, user: Pick<CurrentUs
       lines: invoice.lines.map((l) => ({ id: l.id, description: l.description, quantity: l.quantity, unitCents: l.unitCents, amountCents: l.amountCents })),
     },
     paid,
-    finalsOpen: staff || paid,
+    finalsOpen,
     hasDeliveries: delivered !== undefined,
     invoiceError: search.get("invoiceError"),
     returnedFromPayment: search.has("paid"),

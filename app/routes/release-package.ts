@@ -1,18 +1,15 @@
 // GET /releases/:releaseId/package.zip — the release's delivered files and
 // loudness report as one zip, streamed. Staff may always download; a client
-// only once the release's invoice is paid.
+// only once the release's invoice is paid (app/lib/render-visibility.server.ts).
 import { Readable } from "node:stream";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { safeName } from "../lib/delivery/file-names.ts";
-import { isStaff } from "../lib/roles.ts";
+import { finalsLocked, finalsOpenFor } from "../lib/render-visibility.server.ts";
 import { releasePackage } from "../models/delivery.server.ts";
-import { isReleasePaid } from "../models/invoice.server.ts";
 
 export async function loader({ request, params }: { request: Request; params: { releaseId?: string } }) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
-  if (!isStaff(user.role) && !(await isReleasePaid(release.id))) {
-    return new Response("The final files unlock once the invoice is paid.", { status: 403, headers: { "Content-Type": "text/plain; charset=utf-8" } });
-  }
+  if (!(await finalsOpenFor(user, release.id))) return finalsLocked();
   const { stream, files } = await releasePackage(release.id);
   if (files.length === 0) {
     stream.destroy();

@@ -6,6 +6,8 @@ import { Form, Link, useFetcher, useRevalidator } from "react-router";
 import type { Route } from "./+types/render";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { requireTrackRender } from "../lib/render-access.server.ts";
+import { mayDownloadRender } from "../lib/render-visibility.server.ts";
+import { FINALS_LOCKED_MESSAGE } from "../lib/billing/finals.ts";
 import { describeRevision } from "../lib/render-views.server.ts";
 import { readChartTraces } from "../lib/render-traces.server.ts";
 import { cancelRender } from "../models/render.server.ts";
@@ -20,9 +22,10 @@ import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release, track, render, mix } = await requireTrackRender(request, params);
-  const [chain, traces] = await Promise.all([
+  const [chain, traces, downloadOpen] = await Promise.all([
     describeRevision(render.chainRevisionId),
     render.state === "done" ? readChartTraces(render.tracesKey, render.region?.startS ?? 0) : null,
+    mayDownloadRender(user, render, release.id),
   ]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
@@ -42,6 +45,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       output: render.output && { sizeBytes: render.output.sizeBytes, sampleRateHz: render.output.sampleRateHz, bitDepth: render.output.bitDepth, channels: render.output.channels },
     },
     traces,
+    downloadOpen,
     staff: isStaff(user.role),
   };
 }
@@ -68,7 +72,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 type Progress = { id: string; state: string; progress: number; error: string | null };
 
 export default function RenderPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, track, mix, chain, render, traces, staff } = loaderData;
+  const { release, track, mix, chain, render, traces, downloadOpen, staff } = loaderData;
   const base = `/releases/${release.id}/tracks/${track.id}`;
   const here = `${base}/renders/${render.id}`;
   const poll = useFetcher<Progress>();
@@ -159,9 +163,15 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
               {/* biome-ignore lint/a11y/useMediaCaption: a master has no words to caption */}
               <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full" />
               <p className="text-sm">
-                <a href={`${here}/download`} download className="btn-primary inline-block">
-                  Download {render.kind} (WAV)
-                </a>
+                {downloadOpen ? (
+                  <a href={`${here}/download`} download className="btn-primary inline-block">
+                    Download {render.kind} (WAV)
+                  </a>
+                ) : (
+                  <span className="text-ink-soft" data-testid="download-locked">
+                    {FINALS_LOCKED_MESSAGE}
+                  </span>
+                )}
                 {render.output && (
                   <span className="num ml-3 text-ink-soft">
                     {render.output.bitDepth}-bit · {render.output.sampleRateHz / 1000} kHz · {(render.output.sizeBytes / 1024 ** 2).toFixed(1)} MB

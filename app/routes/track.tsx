@@ -19,7 +19,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  const [mixes, renders] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id)]);
+  const [mixes, renders] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user)]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
     track,

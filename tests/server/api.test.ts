@@ -215,14 +215,16 @@ describe("renders", () => {
     expect(created.body.render).not.toHaveProperty("jobId");
   });
 
-  it("lists and reads renders for the release's viewers only", async () => {
-    const list = await call(renders.loader, "client", `/api/renders?trackId=${f.trackId}`);
-    expect(list.body.renders.map((r: { id: string }) => r.id)).toEqual([renderId]);
+  it("lists and reads renders for the studio; a client sees none until one is sent for review", async () => {
+    expect((await call(renders.loader, "engineer", `/api/renders?trackId=${f.trackId}`)).body.renders.map((r: { id: string }) => r.id)).toEqual([renderId]);
+    expect((await call(renders.loader, "client", `/api/renders?trackId=${f.trackId}`)).body.renders).toEqual([]);
     expect((await call(renders.loader, "otherStudio", `/api/renders?trackId=${f.trackId}`)).status).toBe(404);
     expect((await call(renders.loader, "otherClient", `/api/renders?trackId=${f.trackId}`)).status).toBe(404);
     expect((await call(renders.loader, "engineer", "/api/renders")).body.fieldErrors).toHaveProperty("trackId");
     const params = { renderId };
-    expect((await call(renderOne.loader, "client", `/api/renders/${renderId}`, { params })).body.render.id).toBe(renderId);
+    expect((await call(renderOne.loader, "engineer", `/api/renders/${renderId}`, { params })).body.render.id).toBe(renderId);
+    // Work in progress stays in the studio: a queued render is a 404 to the client, like one that does not exist.
+    expect((await call(renderOne.loader, "client", `/api/renders/${renderId}`, { params })).status).toBe(404);
     expect((await call(renderOne.loader, "otherStudio", `/api/renders/${renderId}`, { params })).status).toBe(404);
     expect((await call(renderOne.loader, "none", `/api/renders/${renderId}`, { params })).status).toBe(401);
   });
@@ -244,7 +246,13 @@ describe("renders", () => {
       .insert({ mix_id: mixId, chain_revision_id: revisionId, kind: "print", state: "done", progress: 1, output_key: `renders/${f.trackId}/api-test.wav`, traces_key: key, finished_at: db.fn.now() })
       .returning("id");
     const params = { renderId: row.id };
+    expect(await call(renderTraces.loader, "engineer", `/api/renders/${row.id}/traces`, { params })).toMatchObject({ status: 200, body: traces });
+    expect((await call(renderTraces.loader, "client", `/api/renders/${row.id}/traces`, { params })).status).toBe(404);
+    // Sent for review, the render is the client's to see: its JSON, its traces, and in the list.
+    await db("review_requests").insert({ track_id: f.trackId, render_id: row.id, sent_by: f.users.engineer.id });
     expect(await call(renderTraces.loader, "client", `/api/renders/${row.id}/traces`, { params })).toMatchObject({ status: 200, body: traces });
+    expect((await call(renderOne.loader, "client", `/api/renders/${row.id}`, { params })).body.render.id).toBe(row.id);
+    expect((await call(renders.loader, "client", `/api/renders?trackId=${f.trackId}`)).body.renders.map((r: { id: string }) => r.id)).toEqual([row.id]);
     expect((await call(renderTraces.loader, "otherStudio", `/api/renders/${row.id}/traces`, { params })).status).toBe(404);
     expect((await call(renderTraces.loader, "none", `/api/renders/${row.id}/traces`, { params })).status).toBe(401);
     await storage().delete(key);
@@ -312,14 +320,14 @@ describe("mixes and audio", () => {
     await storage().delete(row.storage_key);
   });
 
-  it("downloads a render's audio with byte ranges for the release's viewers", async () => {
+  it("downloads a render's audio with byte ranges: staff always, the client a sent print once the invoice is paid", async () => {
     const get = (who: Who, range?: string) => {
       const headers = new Headers();
       if (who !== "none") headers.set("Authorization", `Bearer ${tokens[who]}`);
       if (range) headers.set("Range", range);
       return (renderAudio.loader as Handler)({ request: new Request(`http://tidemark.test/api/renders/${stored.renderId}/audio`, { headers }), params: { renderId: stored.renderId }, context: {} });
     };
-    const whole = await get("client");
+    const whole = await get("engineer");
     expect(whole.status).toBe(200);
     expect(Buffer.from(await whole.arrayBuffer()).equals(stored.outputBytes)).toBe(true);
     const part = await get("engineer", "bytes=100-199");
@@ -328,6 +336,16 @@ describe("mixes and audio", () => {
     expect((await get("otherStudio")).status).toBe(404);
     expect((await get("otherClient")).status).toBe(404);
     expect((await get("none")).status).toBe(401);
+    // Not sent for review: not the client's.
+    expect((await get("client")).status).toBe(404);
+    await db("review_requests").insert({ track_id: f.trackId, render_id: stored.renderId, sent_by: f.users.engineer.id });
+    const locked = await get("client");
+    expect(locked.status).toBe(403);
+    expect(await locked.json()).toEqual({ error: "The final files unlock once the invoice is paid." });
+    await db("invoices").insert({ studio_id: f.studioId, release_id: f.releaseId, number: `A-${f.tag}`, currency: "EUR", state: "paid", total_cents: 100, sent_at: db.fn.now(), paid_at: db.fn.now() });
+    const paid = await get("client");
+    expect(paid.status).toBe(200);
+    expect(Buffer.from(await paid.arrayBuffer()).equals(stored.outputBytes)).toBe(true);
   });
 
   it("downloads a mix's original for staff only", async () => {

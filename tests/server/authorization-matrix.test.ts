@@ -27,6 +27,7 @@ import * as templates from "../../app/routes/templates.tsx";
 import * as settingsTokens from "../../app/routes/settings-tokens.tsx";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
 import { db } from "../../app/lib/db.server.ts";
+import { storage } from "../../app/lib/storage/storage.server.ts";
 import * as apiReleases from "../../app/routes/api.releases.ts";
 import * as apiReleaseTracks from "../../app/routes/api.release-tracks.ts";
 import * as apiChains from "../../app/routes/api.chains.ts";
@@ -81,8 +82,10 @@ let trackChainId: string;
 let apiRenderId: string;
 // A second finished render, sent to the client for review (the first one is not).
 let reviewed: StoredRender;
-// Another release of the first client, whose invoice is paid.
+// Another release of the first client, whose invoice is paid, with a print sent for review.
 let paidReleaseId: string;
+let paidPrint: StoredRender & { trackId: string };
+const reviewedTracesKey = () => `renders/${reviewed.renderId}/traces.json`;
 
 // API routes answer with a JSON status instead of throwing: 401 reads as "sign-in", 404 as "404".
 const api =
@@ -152,10 +155,17 @@ const cases: Case[] = [
   { route: "…/mixes/:mixId/download", file: "routes/download.mix.ts", kind: "loader", handler: downloadMix.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/mixes/${stored.mixId}/download`, params: (f) => ({ ...trk(f), mixId: stored.mixId }), expected: releaseStaff },
   { route: "…/renders/new", file: "routes/render-new.tsx", kind: "loader", handler: renderNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/new`, params: trk, expected: releaseStaff },
   { route: "…/renders/new", file: "routes/render-new.tsx", kind: "action", handler: renderNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/new`, params: trk, form: {}, expected: releaseStaff },
-  { route: "…/renders/:renderId", file: "routes/render.tsx", kind: "loader", handler: renderPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
+  // Renders follow app/lib/render-visibility.server.ts: a client sees one once it is sent for review,
+  // and takes a print's file away once the release's invoice is paid.
+  { route: "…/renders/:renderId (not sent)", file: "routes/render.tsx", kind: "loader", handler: renderPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseStaff },
+  { route: "…/renders/:renderId (sent for review)", file: "routes/render.tsx", kind: "loader", handler: renderPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${reviewed.renderId}`, params: (f) => ({ ...trk(f), renderId: reviewed.renderId }), expected: releaseViewers },
   { route: "…/renders/:renderId", file: "routes/render.tsx", kind: "action", handler: renderPage.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), form: {}, expected: releaseStaff },
-  { route: "…/renders/:renderId/progress", file: "routes/render-progress.ts", kind: "loader", handler: renderProgress.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/progress`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
-  { route: "…/renders/:renderId/download", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/download`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseViewers },
+  { route: "…/renders/:renderId/progress (not sent)", file: "routes/render-progress.ts", kind: "loader", handler: renderProgress.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/progress`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseStaff },
+  { route: "…/renders/:renderId/progress (sent for review)", file: "routes/render-progress.ts", kind: "loader", handler: renderProgress.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${reviewed.renderId}/progress`, params: (f) => ({ ...trk(f), renderId: reviewed.renderId }), expected: releaseViewers },
+  { route: "…/renders/:renderId/download (not sent)", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${stored.renderId}/download`, params: (f) => ({ ...trk(f), renderId: stored.renderId }), expected: releaseStaff },
+  { route: "…/renders/:renderId/download (sent print, unpaid)", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${reviewed.renderId}/download`, params: (f) => ({ ...trk(f), renderId: reviewed.renderId }), expected: { ...releaseViewers, client: "refused" } },
+  { route: "…/renders/:renderId/download?inline=1 (sent print, unpaid)", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/${reviewed.renderId}/download?inline=1`, params: (f) => ({ ...trk(f), renderId: reviewed.renderId }), expected: releaseViewers },
+  { route: "…/renders/:renderId/download (sent print, paid)", file: "routes/download.render.ts", kind: "loader", handler: downloadRender.loader as Handler, path: () => `/releases/${paidReleaseId}/tracks/${paidPrint.trackId}/renders/${paidPrint.renderId}/download`, params: () => ({ releaseId: paidReleaseId, trackId: paidPrint.trackId, renderId: paidPrint.renderId }), expected: releaseViewers },
   { route: "/api/releases", file: "routes/api.releases.ts", kind: "loader", handler: api(apiReleases.loader), path: () => "/api/releases", expected: signedIn },
   { route: "/api/releases", file: "routes/api.releases.ts", kind: "action", handler: api(apiReleases.action), path: () => "/api/releases", form: { title: "" }, expected: staff },
   { route: "/api/releases/:releaseId/tracks", file: "routes/api.release-tracks.ts", kind: "loader", handler: api(apiReleaseTracks.loader), path: (f) => `/api/releases/${f.releaseId}/tracks`, params: rel, expected: releaseViewers },
@@ -167,12 +177,16 @@ const cases: Case[] = [
   { route: "/api/chains/:chainId/revisions", file: "routes/api.chain-revisions.ts", kind: "action", handler: api(apiChainRevisions.action), path: () => `/api/chains/${trackChainId}/revisions`, params: cid, form: { params: "" }, expected: releaseStaff },
   { route: "/api/renders", file: "routes/api.renders.ts", kind: "loader", handler: api(apiRenders.loader), path: (f) => `/api/renders?trackId=${f.trackId}`, expected: releaseViewers },
   { route: "/api/renders", file: "routes/api.renders.ts", kind: "action", handler: api(apiRenders.action), path: () => "/api/renders", form: { mixId: "" }, expected: staff },
-  { route: "/api/renders/:renderId", file: "routes/api.render.ts", kind: "loader", handler: api(apiRender.loader), path: () => `/api/renders/${apiRenderId}`, params: rid, expected: releaseViewers },
+  { route: "/api/renders/:renderId (queued)", file: "routes/api.render.ts", kind: "loader", handler: api(apiRender.loader), path: () => `/api/renders/${apiRenderId}`, params: rid, expected: releaseStaff },
+  { route: "/api/renders/:renderId (sent for review)", file: "routes/api.render.ts", kind: "loader", handler: api(apiRender.loader), path: () => `/api/renders/${reviewed.renderId}`, params: () => ({ renderId: reviewed.renderId }), expected: releaseViewers },
   // GET on the cancel route is a 405 for anyone; it reveals nothing.
   { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "loader", handler: api(apiRenderCancel.loader), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, expected: everyone("allowed") },
   { route: "/api/renders/:renderId/cancel", file: "routes/api.render-cancel.ts", kind: "action", handler: api(apiRenderCancel.action), path: () => `/api/renders/${apiRenderId}/cancel`, params: rid, form: {}, expected: releaseStaff },
-  { route: "/api/renders/:renderId/traces", file: "routes/api.render-traces.ts", kind: "loader", handler: api(apiRenderTraces.loader), path: () => `/api/renders/${apiRenderId}/traces`, params: rid, expected: releaseViewers },
-  { route: "/api/renders/:renderId/audio", file: "routes/api.render-audio.ts", kind: "loader", handler: api(apiRenderAudio.loader), path: () => `/api/renders/${stored.renderId}/audio`, params: () => ({ renderId: stored.renderId }), expected: releaseViewers },
+  { route: "/api/renders/:renderId/traces (queued)", file: "routes/api.render-traces.ts", kind: "loader", handler: api(apiRenderTraces.loader), path: () => `/api/renders/${apiRenderId}/traces`, params: rid, expected: releaseStaff },
+  { route: "/api/renders/:renderId/traces (sent for review)", file: "routes/api.render-traces.ts", kind: "loader", handler: api(apiRenderTraces.loader), path: () => `/api/renders/${reviewed.renderId}/traces`, params: () => ({ renderId: reviewed.renderId }), expected: releaseViewers },
+  { route: "/api/renders/:renderId/audio (not sent)", file: "routes/api.render-audio.ts", kind: "loader", handler: api(apiRenderAudio.loader), path: () => `/api/renders/${stored.renderId}/audio`, params: () => ({ renderId: stored.renderId }), expected: releaseStaff },
+  { route: "/api/renders/:renderId/audio (sent print, unpaid)", file: "routes/api.render-audio.ts", kind: "loader", handler: api(apiRenderAudio.loader), path: () => `/api/renders/${reviewed.renderId}/audio`, params: () => ({ renderId: reviewed.renderId }), expected: { ...releaseViewers, client: "refused" } },
+  { route: "/api/renders/:renderId/audio (sent print, paid)", file: "routes/api.render-audio.ts", kind: "loader", handler: api(apiRenderAudio.loader), path: () => `/api/renders/${paidPrint.renderId}/audio`, params: () => ({ renderId: paidPrint.renderId }), expected: releaseViewers },
   { route: "/api/tracks/:trackId/mixes", file: "routes/api.track-mixes.ts", kind: "loader", handler: api(apiTrackMixes.loader), path: (f) => `/api/tracks/${f.trackId}/mixes`, params: (f) => ({ trackId: f.trackId }), expected: releaseStaff },
   // A form body is not a WAV: staff get 422, nothing is stored.
   { route: "/api/tracks/:trackId/mixes", file: "routes/api.track-mixes.ts", kind: "action", handler: api(apiTrackMixes.action), path: (f) => `/api/tracks/${f.trackId}/mixes`, params: (f) => ({ trackId: f.trackId }), form: { file: "" }, expected: releaseStaff },
@@ -223,15 +237,22 @@ beforeAll(async () => {
   apiRenderId = queued.id;
   reviewed = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
   await db("review_requests").insert({ track_id: fixture.trackId, render_id: reviewed.renderId, sent_by: fixture.users.owner.id });
+  await storage().put(reviewedTracesKey(), Buffer.from(JSON.stringify({ frameMs: 10, stages: [], shortTermLufs: [] })), { contentType: "application/json" });
+  await db("renders").where({ id: reviewed.renderId }).update({ traces_key: reviewedTracesKey() });
   const [paid] = await db("releases").insert({ studio_id: fixture.studioId, client_id: fixture.clientId, title: `Paid single ${fixture.tag}`, kind: "single" }).returning("id");
   paidReleaseId = paid.id;
   await db("invoices").insert({ studio_id: fixture.studioId, release_id: paidReleaseId, number: `M-${fixture.tag}`, currency: "EUR", state: "paid", total_cents: 100, sent_at: db.fn.now(), paid_at: db.fn.now() });
+  const [paidTrack] = await db("tracks").insert({ release_id: paidReleaseId, position: 1, title: `Paid track ${fixture.tag}` }).returning("id");
+  paidPrint = { ...(await addStoredRender({ studioId: fixture.studioId, trackId: paidTrack.id })), trackId: paidTrack.id };
+  await db("review_requests").insert({ track_id: paidTrack.id, render_id: paidPrint.renderId, sent_by: fixture.users.owner.id });
   ({ token: invitationToken } = await createInvitation({ studioId: fixture.studioId, invitedBy: fixture.users.owner.id, email: `invitee-${fixture.tag}@fixture.test`, role: "engineer", clientId: null }));
 });
 afterAll(async () => {
   // Renders hold their chain revision (NO ACTION), so they go before the studio's cascade.
   if (apiRenderId) await db("renders").where({ id: apiRenderId }).delete();
+  if (reviewed) await storage().delete(reviewedTracesKey());
   await reviewed?.cleanup();
+  await paidPrint?.cleanup();
   await stored?.cleanup();
   await destroyFixture(fixture);
 });
@@ -279,6 +300,13 @@ describe("authorisation matrix", () => {
     expect(new Set(data.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, paidReleaseId]));
     const staffData = (await dashboard.loader({ request: requestAs(fixture, "engineer", "/"), params: {}, context: {} } as never)) as { releases: { id: string }[] };
     expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId, paidReleaseId]));
+  });
+
+  it("lists on a client's track page only the renders sent to them for review", async () => {
+    const load = async (persona: Persona) =>
+      ((await track.loader({ request: requestAs(fixture, persona, `/releases/${fixture.releaseId}/tracks/${fixture.trackId}`), params: trk(fixture), context: {} } as never)) as { renders: { id: string }[] }).renders.map((r) => r.id);
+    expect(await load("client")).toEqual([reviewed.renderId]);
+    expect(new Set(await load("engineer"))).toEqual(new Set([reviewed.renderId, stored.renderId, apiRenderId]));
   });
 
   it("sends a signed-out visitor to sign-in with the way back", async () => {

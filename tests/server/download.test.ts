@@ -1,7 +1,10 @@
 // Downloads of mixes and renders: headers (RFC 6266 name, length, ranges),
 // byte ranges as RFC 9110 §14 describes them (206 with Content-Range, 416
-// when unsatisfiable), bytes equal to the stored slice; who may fetch what.
+// when unsatisfiable), bytes equal to the stored slice; who may fetch what
+// (app/lib/render-visibility.server.ts: a client a render sent for review,
+// and a print as a download once the invoice is paid).
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { db } from "../../app/lib/db.server.ts";
 import { contentDisposition, parseRange } from "../../app/lib/http-range.server.ts";
 import * as downloadMix from "../../app/routes/download.mix.ts";
 import * as downloadRender from "../../app/routes/download.render.ts";
@@ -63,7 +66,7 @@ describe("parseRange", () => {
 
 describe("render download", () => {
   it("answers the whole print with its headers", async () => {
-    const response = await fetchRender("client");
+    const response = await fetchRender("engineer");
     expect(response.status).toBe(200);
     expect(response.headers.get("Content-Type")).toBe("audio/wav");
     expect(response.headers.get("Accept-Ranges")).toBe("bytes");
@@ -96,14 +99,32 @@ describe("render download", () => {
     expect(response.headers.get("Content-Range")).toBe(`bytes */${stored.outputBytes.length}`);
   });
 
-  it("plays inline for the page's player", async () => {
-    const response = await fetchRender("client", "bytes=0-1", "?inline=1");
-    expect(response.status).toBe(206);
-    expect(response.headers.get("Content-Disposition")).toMatch(/^inline; /);
+  it("is a 404 for anyone who may not see the release, and for its client before the render is sent for review", async () => {
+    for (const persona of ["otherClient", "otherStudio", "client"] as const) expect((await fetchRender(persona)).status, persona).toBe(404);
+    expect((await fetchRender("client", "bytes=0-1", "?inline=1")).status).toBe(404);
   });
 
-  it("is a 404 for anyone who may not see the release", async () => {
-    for (const persona of ["otherClient", "otherStudio"] as const) expect((await fetchRender(persona)).status, persona).toBe(404);
+  it("lets the client listen to a print sent for review, and download it only once the invoice is paid", async () => {
+    await db("review_requests").insert({ track_id: fixture.trackId, render_id: stored.renderId, sent_by: fixture.users.engineer.id });
+    const inline = await fetchRender("client", "bytes=0-1", "?inline=1");
+    expect(inline.status).toBe(206);
+    expect(inline.headers.get("Content-Disposition")).toMatch(/^inline; /);
+    const locked = await fetchRender("client");
+    expect(locked.status).toBe(403);
+    expect(await locked.text()).toBe("The final files unlock once the invoice is paid.");
+
+    await db("invoices").insert({ studio_id: fixture.studioId, release_id: fixture.releaseId, number: `D-${fixture.tag}`, currency: "EUR", state: "paid", total_cents: 100, sent_at: db.fn.now(), paid_at: db.fn.now() });
+    const paid = await fetchRender("client");
+    expect(paid.status).toBe(200);
+    expect(await bytesOf(paid)).toEqual(stored.outputBytes);
+  });
+
+  it("gives the client a preview sent for review before payment", async () => {
+    await db("invoices").where({ release_id: fixture.releaseId }).delete();
+    await db("renders").where({ id: stored.renderId }).update({ kind: "preview", region_start_s: 0, region_end_s: 0.02 });
+    const preview = await fetchRender("client");
+    expect(preview.status).toBe(200);
+    expect(preview.headers.get("Content-Disposition")).toContain("v1 preview");
   });
 });
 

@@ -77,10 +77,13 @@ describe("render form", () => {
     expect(render.jobId).toMatch(/^[0-9a-f-]{36}$/);
 
     const params = { ...trk(), renderId };
-    const progress = (await renderProgress.loader({ request: requestAs(fixture, "client", `${base()}/renders/${renderId}/progress`), params, context: {} } as never)) as Response;
+    const progress = (await renderProgress.loader({ request: requestAs(fixture, "engineer", `${base()}/renders/${renderId}/progress`), params, context: {} } as never)) as Response;
     expect(await progress.json()).toEqual({ id: renderId, state: "queued", progress: 0, error: null, attempts: 0 });
+    // Work in progress stays in the studio: the client sees a render only once it is sent for review.
+    const clientProgress = await Promise.resolve(renderProgress.loader({ request: requestAs(fixture, "client", `${base()}/renders/${renderId}/progress`), params, context: {} } as never)).catch((e: unknown) => e);
+    expect((clientProgress as Response).status).toBe(404);
 
-    // A client may watch but not cancel.
+    // Nor may a client cancel.
     const clientCancel = await Promise.resolve(
       renderPage.action({ request: requestAs(fixture, "client", `${base()}/renders/${renderId}`, { form: { intent: "cancel" } }), params, context: {} } as never),
     ).catch((e: unknown) => e);
