@@ -13,6 +13,7 @@ import { buildLoudnessReport, loudnessReportCsv, type DeliveryMeasures, type Lou
 import { streamReleasePackage, type PackageFile } from "../lib/delivery/release-package.server.ts";
 import { deliveryWarnings, type DeliveredFile } from "../lib/delivery/warnings.ts";
 import { storage as sharedStorage, type StorageDriver } from "../lib/storage/storage.server.ts";
+import { releaseDeliveryPlan, type TrackDeliveryPlan } from "./delivery-plan.server.ts";
 import { getStudioSettings } from "./studio-settings.server.ts";
 
 type Conn = Knex | Knex.Transaction;
@@ -197,38 +198,20 @@ export async function releasePackage(releaseId: string, options: { storage?: Sto
 }
 
 /**
- * Queues a delivery of every track in every format of the release, each from
- * the track's newest finished print. Tracks without a finished print are
- * returned as missing. Returns the ids of the new deliveries (to hand to
- * makeDelivery, in a worker).
+ * Queues a delivery of every approved track in every format of the release,
+ * each from the print the client approved (releaseDeliveryPlan). Tracks left
+ * out are returned with the reason. Returns the ids of the new deliveries (to
+ * hand to makeDelivery, in a worker).
  */
-export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; tracksWithoutPrint: string[] }> {
+export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; leftOut: TrackDeliveryPlan[] }> {
   const formats = await releaseFormats(releaseId, conn);
-  const prints = await conn("tracks as t")
-    .leftJoin(
-      conn("renders as r")
-        .join("mixes as m", "m.id", "r.mix_id")
-        .where({ "r.kind": "print", "r.state": "done" })
-        .distinctOn("m.track_id")
-        .orderBy([{ column: "m.track_id" }, { column: "r.finished_at", order: "desc", nulls: "last" }, { column: "r.queued_at", order: "desc" }])
-        .select("m.track_id", "r.id as render_id")
-        .as("p"),
-      "p.track_id",
-      "t.id",
-    )
-    .where("t.release_id", releaseId)
-    .orderBy("t.position")
-    .select("t.id as trackId", "p.render_id as renderId");
+  const plan = await releaseDeliveryPlan(releaseId, conn);
   const deliveryIds: string[] = [];
-  const tracksWithoutPrint: string[] = [];
   await conn.transaction(async (trx) => {
-    for (const p of prints as { trackId: string; renderId: string | null }[]) {
-      if (!p.renderId) {
-        tracksWithoutPrint.push(p.trackId);
-        continue;
-      }
-      for (const f of formats) deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.renderId }, trx));
+    for (const p of plan) {
+      if (!p.sourceRenderId) continue;
+      for (const f of formats) deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.sourceRenderId }, trx));
     }
   });
-  return { deliveryIds, tracksWithoutPrint };
+  return { deliveryIds, leftOut: plan.filter((p) => !p.sourceRenderId) };
 }

@@ -1,8 +1,15 @@
 // /releases/:releaseId/delivery — the release's delivery formats (the
-// studio's defaults until the release gets its own: adding a format copies
-// the defaults in first), "Make deliveries" (every track's newest finished
-// print × every format, one queued job each), and the deliveries with their
-// state and warnings. Staff only: clients get their files from the release page.
+// studio's defaults until the release gets its own: adding, editing or
+// deleting a format copies the defaults in first), which tracks are approved
+// and which are left out and why, "Make deliveries" (every approved track's
+// approved print × every format, one queued job each), and the deliveries with
+// their state and warnings. Staff only: clients get their files from the
+// release page.
+//
+// Deleting a format (after a confirmation step) keeps the files already made
+// in it: they stay in storage and in the list here, marked, but leave the
+// package and the loudness report; its queued deliveries are dropped.
+import type { Knex } from "knex";
 import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/release-delivery";
@@ -12,7 +19,9 @@ import { db } from "../lib/db.server.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
 import { STAFF } from "../lib/roles.ts";
 import { enqueueDelivery } from "../jobs/queue.server.ts";
-import { addFormat, queueReleaseDeliveries, releaseFormats } from "../models/delivery.server.ts";
+import { addFormat, queueReleaseDeliveries, releaseFormats, type StoredFormat } from "../models/delivery.server.ts";
+import { releaseDeliveryPlan } from "../models/delivery-plan.server.ts";
+import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
 import { PageHeader } from "../components/page-header.tsx";
 
@@ -40,11 +49,11 @@ export const formatSchema = z.object({
 // A print is a few minutes; the job's time limit is sized for 10 minutes of audio.
 const ASSUMED_AUDIO_SECONDS = 600;
 
-type DeliveryListRow = { id: string; position: number; title: string; formatName: string; state: string; warnings: string[] | null; error: string | null; createdAt: string };
+type DeliveryListRow = { id: string; position: number; title: string; formatName: string; formatKept: boolean; state: string; warnings: string[] | null; error: string | null; createdAt: string };
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { release } = await requireReleaseAccess(request, params.releaseId, STAFF);
-  const [formats, own, rows] = await Promise.all([
+  const [formats, own, rows, plan] = await Promise.all([
     releaseFormats(release.id),
     db("delivery_formats").where({ release_id: release.id }).count<{ count: string }[]>("id as count"),
     db("deliveries as d")
@@ -52,23 +61,75 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       .where("d.release_id", release.id)
       .orderBy([{ column: "d.created_at", order: "desc" }, { column: "t.position" }])
       .limit(200)
-      .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt"),
+      .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), db.raw(`d.format_id IS NOT NULL AS "formatKept"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt"),
+    releaseDeliveryPlan(release.id),
   ]);
-  const editId = new URL(request.url).searchParams.get("edit");
-  return { release: { id: release.id, title: release.title }, editing: formats.find((f) => f.id === editId) ?? null, formats, ownFormats: Number(own[0]?.count ?? 0) > 0, deliveries: rows as DeliveryListRow[] };
+  const search = new URL(request.url).searchParams;
+  const deleting = formats.find((f) => f.id === search.get("delete")) ?? null;
+  const madeInDeleting = deleting ? Number((await db("deliveries").where({ format_id: deleting.id, release_id: release.id, state: "done" }).count<{ count: string }[]>("id as count"))[0]?.count ?? 0) : 0;
+  return {
+    release: { id: release.id, title: release.title },
+    editing: formats.find((f) => f.id === search.get("edit")) ?? null,
+    deleting: deleting && { id: deleting.id, name: deleting.name, finishedFiles: madeInDeleting },
+    formats,
+    ownFormats: Number(own[0]?.count ?? 0) > 0,
+    deliveries: rows as DeliveryListRow[],
+    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.sourceRenderId !== null, reason: p.reason })),
+  };
 }
 
-type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; tracksWithoutPrint: number };
-const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, tracksWithoutPrint: 0, ...r }, { status });
+/**
+ * The release's own formats, inside the transaction: on the first change the
+ * studio's defaults are copied in, and the release's deliveries made in a
+ * default are moved to its copy (the same format), so nothing drops out of
+ * the package. Returns the map from default id to copy id.
+ */
+async function ownFormats(trx: Knex.Transaction, studioId: string, releaseId: string): Promise<Map<string, string>> {
+  const ids = new Map<string, string>();
+  const own = await trx("delivery_formats").where({ release_id: releaseId }).first("id");
+  if (own) return ids;
+  for (const d of await releaseFormats(releaseId, trx)) {
+    const copy = (await addFormat(studioId, releaseId, d, trx)).id;
+    ids.set(d.id, copy);
+    await trx("deliveries").where({ release_id: releaseId, format_id: d.id }).update({ format_id: copy });
+  }
+  return ids;
+}
+
+// Settings that change the sound of a print; a file made before such an edit no longer is a file of the format.
+const printsDiffer = (a: StoredFormat, b: { sampleRate: number; bitDepth: number | string; dither: string; ceilingDbtp: number; targetLufs?: number }) =>
+  a.sampleRate !== b.sampleRate || String(a.bitDepth) !== String(b.bitDepth) || a.dither !== b.dither || a.ceilingDbtp !== b.ceilingDbtp || (a.targetLufs ?? null) !== (b.targetLufs ?? null);
+
+type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; leftOut: number };
+const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, leftOut: 0, ...r }, { status });
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const form = await request.formData();
   const intent = String(form.get("intent") ?? "");
   if (intent === "make") {
-    const { deliveryIds, tracksWithoutPrint } = await queueReleaseDeliveries(release.id);
+    const { deliveryIds, leftOut } = await queueReleaseDeliveries(release.id);
     for (const id of deliveryIds) await enqueueDelivery(id, ASSUMED_AUDIO_SECONDS);
-    return reply({ intent, queued: deliveryIds.length, tracksWithoutPrint: tracksWithoutPrint.length });
+    return reply({ intent, queued: deliveryIds.length, leftOut: leftOut.length });
+  }
+  if (intent === "delete-format") {
+    if (form.get("confirm") !== "yes") return reply({ intent, errors: { form: "Confirm the deletion." } }, 400);
+    const formatId = String(form.get("formatId") ?? "");
+    const outcome = await db.transaction(async (trx) => {
+      const ids = await ownFormats(trx, user.studioId, release.id);
+      const id = ids.get(formatId) ?? formatId;
+      const format = await trx("delivery_formats").where({ id, release_id: release.id }).forUpdate().first("id");
+      if (!format) return "not-ours" as const;
+      const count = await trx("delivery_formats").where({ release_id: release.id }).count<{ count: string }[]>("id as count");
+      if (Number(count[0]?.count) <= 1) return "last" as const;
+      // Queued files are not made any more; finished ones keep their row and file (format_id becomes null).
+      await trx("deliveries").where({ format_id: id, state: "queued" }).delete();
+      await trx("delivery_formats").where({ id }).delete();
+      return "deleted" as const;
+    });
+    if (outcome === "not-ours") return reply({ intent, errors: { form: "That format is not one of this release's." } }, 400);
+    if (outcome === "last") return reply({ intent, errors: { form: "A release needs at least one format: add another before deleting this one." } }, 400);
+    return redirect(`/releases/${release.id}/delivery`);
   }
   if (intent !== "add-format") return reply({ intent, errors: { form: "Unknown action." } }, 400);
   const result = parseForm(formatSchema, form);
@@ -87,16 +148,19 @@ export async function action({ request, params }: Route.ActionArgs) {
   try {
     const found = await db.transaction(async (trx) => {
       // The first change to the release's own list: the studio's defaults come along, so nothing is lost.
-      const ids = new Map<string, string>();
-      const own = await trx("delivery_formats").where({ release_id: release.id }).first("id");
-      if (!own) for (const d of await releaseFormats(release.id, trx)) ids.set(d.id, (await addFormat(user.studioId, release.id, d, trx)).id);
+      const ids = await ownFormats(trx, user.studioId, release.id);
       if (!editId) {
         await addFormat(user.studioId, release.id, format, trx);
         return true;
       }
       checkDeliveryFormat(format);
+      const id = ids.get(editId) ?? editId;
+      const before = (await releaseFormats(release.id, trx)).find((f) => f.id === id);
+      if (!before) return false;
+      // Files made to the old settings leave the format (and the package) and stay listed; a new name alone keeps them.
+      if (printsDiffer(before, format)) await trx("deliveries").where({ format_id: id }).update({ format_id: null });
       const updated = await trx("delivery_formats")
-        .where({ id: ids.get(editId) ?? editId, release_id: release.id })
+        .where({ id, release_id: release.id })
         .update({ name: format.name, sample_rate_hz: format.sampleRate, bit_depth: String(format.bitDepth), dither: format.dither, ceiling_dbtp: format.ceilingDbtp, target_lufs: format.targetLufs ?? null });
       return updated === 1;
     });
@@ -118,8 +182,10 @@ const DEPTH_OPTIONS = [
 ];
 
 export default function ReleaseDelivery({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, formats, ownFormats, deliveries, editing } = loaderData;
+  const { release, formats, ownFormats, deliveries, editing, deleting, tracks } = loaderData;
+  const leftOut = tracks.filter((t) => !t.delivered);
   const add = actionData?.intent === "add-format" ? actionData : undefined;
+  const removal = actionData?.intent === "delete-format" ? actionData : undefined;
   // Field defaults: what was typed (after a refusal), else the format being edited.
   const initial = add?.values.name !== undefined ? add.values : editing ? { name: editing.name, sampleRate: String(editing.sampleRate), bitDepth: String(editing.bitDepth), dither: editing.dither, ceilingDbtp: String(editing.ceilingDbtp), targetLufs: editing.targetLufs === undefined ? "" : String(editing.targetLufs) } : undefined;
   const made = actionData?.intent === "make" ? actionData : undefined;
@@ -150,7 +216,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                 <th scope="col">Ceiling</th>
                 <th scope="col">Target</th>
                 <th scope="col">
-                  <span className="sr-only">Edit</span>
+                  <span className="sr-only">Edit or delete</span>
                 </th>
               </tr>
             </thead>
@@ -163,16 +229,46 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                   <td>{f.dither === "tpdf" ? "TPDF" : "none"}</td>
                   <td className="num">{f.ceilingDbtp} dBTP</td>
                   <td className="num">{f.targetLufs !== undefined ? `${f.targetLufs} LUFS` : "keep level"}</td>
-                  <td>
+                  <td className="whitespace-nowrap">
                     <Link to={`?edit=${f.id}#format-form`} className="text-accent-deep underline-offset-4 hover:underline" aria-label={`Edit ${f.name}`}>
                       Edit
                     </Link>
+                    {formats.length > 1 && (
+                      <Link to={`?delete=${f.id}#format-delete`} className="ml-3 text-danger underline-offset-4 hover:underline" aria-label={`Delete ${f.name}`}>
+                        Delete
+                      </Link>
+                    )}
                   </td>
                 </tr>
               ))}
             </tbody>
           </table>
         </div>
+        <FormNotice message={removal?.errors.form} />
+        {deleting && (
+          <Form id="format-delete" method="post" className="card mb-4 space-y-3 border-danger/40 p-5" role="group" aria-labelledby="format-delete-heading">
+            <input type="hidden" name="intent" value="delete-format" />
+            <input type="hidden" name="formatId" value={deleting.id} />
+            <input type="hidden" name="confirm" value="yes" />
+            <h3 id="format-delete-heading" className="font-semibold">
+              Delete the format “{deleting.name}”?
+            </h3>
+            <p className="text-sm text-ink-soft">
+              {deleting.finishedFiles > 0
+                ? `The ${deleting.finishedFiles} ${deleting.finishedFiles === 1 ? "file" : "files"} already made in it stay in storage and in the list below, but leave the release package and the loudness report.`
+                : "No file has been made in it yet."}{" "}
+              Deliveries still queued in it are dropped.
+            </p>
+            <div className="flex flex-wrap gap-3">
+              <button type="submit" className="btn-primary">
+                Delete format
+              </button>
+              <Link to="." className="btn-quiet">
+                Keep it
+              </Link>
+            </div>
+          </Form>
+        )}
         <Form key={editing?.id ?? `new-${formats.length}`} id="format-form" method="post" className="card grid gap-4 p-5 sm:grid-cols-2 lg:grid-cols-3" noValidate>
           <input type="hidden" name="intent" value="add-format" />
           {editing && <input type="hidden" name="formatId" value={editing.id} />}
@@ -193,6 +289,27 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           </div>
         </Form>
       </section>
+      <section className="mb-8" aria-labelledby="tracks-heading">
+        <h2 id="tracks-heading" className="mb-2 text-lg font-semibold">
+          Tracks
+        </h2>
+        <p className="mb-3 text-sm text-ink-soft">
+          Only approved tracks are delivered, from the print the client approved. {tracks.length - leftOut.length} of {tracks.length} {tracks.length === 1 ? "track is" : "tracks are"} ready.
+        </p>
+        {leftOut.length > 0 && (
+          <div className="card p-5">
+            <h3 className="mb-2 text-sm font-semibold">Left out of deliveries</h3>
+            <ul className="space-y-2 text-sm" aria-label="Tracks left out">
+              {leftOut.map((t) => (
+                <li key={t.id} data-track-left-out={t.id}>
+                  <span className="num text-ink-soft">{t.position}.</span> <Link to={`/releases/${release.id}/tracks/${t.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">{t.title}</Link>{" "}
+                  <span className="text-ink-soft">({t.review})</span>: {t.reason}
+                </li>
+              ))}
+            </ul>
+          </div>
+        )}
+      </section>
       <section aria-labelledby="deliveries-heading">
         <h2 id="deliveries-heading" className="mb-2 text-lg font-semibold">
           Delivered files
@@ -202,12 +319,12 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           <button type="submit" className="btn-primary">
             Make deliveries
           </button>
-          <span className="text-sm text-ink-soft">Every track with a finished print, from its newest print, in every format above.</span>
+          <span className="text-sm text-ink-soft">Every approved track, from its approved print, in every format above.</span>
         </Form>
         {made && (
           <FormNotice
             tone="info"
-            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.tracksWithoutPrint > 0 ? ` ${made.tracksWithoutPrint} track(s) have no finished print yet and were left out.` : ""}`}
+            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
           />
         )}
         {deliveries.length === 0 ? (
@@ -229,7 +346,10 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                     <td>
                       <span className="num text-ink-soft">{d.position}.</span> {d.title}
                     </td>
-                    <td>{d.formatName}</td>
+                    <td>
+                      {d.formatName}
+                      {!d.formatKept && <span className="block text-xs text-ink-soft">format deleted or changed · not in the package</span>}
+                    </td>
                     <td>{d.state}</td>
                     <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
                   </tr>

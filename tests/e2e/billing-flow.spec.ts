@@ -3,8 +3,8 @@
 // release's deliveries (the worker runs each through its format), builds and
 // sends the invoice; the client finds the finals locked, pays on the fake
 // checkout, comes back to a paid invoice and downloads the release's zip.
-// The release, its track and a finished print (a synthesized sine) are
-// written straight to the database and storage in setup.
+// The release, its track and a finished print (a synthesized sine), sent for
+// review and approved, are written straight to the database and storage in setup.
 import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -55,11 +55,16 @@ test.beforeAll(async () => {
     const key = `renders/e2e-billing/${randomUUID()}.wav`;
     await storage().put(key, { filePath: file }, { contentType: "audio/wav" });
     const [mix] = await db("mixes")
-      .insert({ track_id: track.id, version: 1, original_name: "lantern-tide.wav", storage_key: `mixes/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48000, channels: 2, bit_depth: 24, sample_format: "int", frames })
+      .insert({ track_id: track.id, version: 1, original_name: "lantern-tide.wav", storage_key: `mixes/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48000, channels: 2, bit_depth: 24, sample_format: "int", frames, created_at: new Date(Date.now() - 120_000) })
       .returning("id");
     const [chain] = await db("chains").insert({ studio_id: studio.id, track_id: track.id, name: "Billing flow chain" }).returning("id");
     const [rev] = await db("chain_revisions").insert({ chain_id: chain.id, revision: 1, params: JSON.stringify({ stages: [] }) }).returning("id");
-    await db("renders").insert({ mix_id: mix.id, chain_revision_id: rev.id, kind: "print", state: "done", output_key: key, finished_at: db.fn.now() });
+    const [print] = await db("renders").insert({ mix_id: mix.id, chain_revision_id: rev.id, kind: "print", state: "done", output_key: key, finished_at: new Date(Date.now() - 60_000) }).returning("id");
+    // Only approved tracks are delivered: the print was sent for review and the client approved it.
+    const engineer = await db("users").where({ email: "engineer@lanternquay.test" }).first("id");
+    const clientUser = await db("users").where({ email: CLIENT }).first("id");
+    await db("review_requests").insert({ track_id: track.id, render_id: print.id, sent_by: engineer.id, created_at: new Date(Date.now() - 30_000) });
+    await db("review_events").insert({ track_id: track.id, render_id: print.id, kind: "approve", user_id: clientUser.id, created_at: new Date(Date.now() - 10_000) });
   } finally {
     await db.destroy();
   }
@@ -84,7 +89,7 @@ test("owner bills the release, the client pays and downloads the finals", async 
   await owner.getByRole("button", { name: "Save" }).click();
   await expect(owner.getByText("Saved.")).toBeVisible();
 
-  // Deliveries through the worker: every format of the studio, from the print.
+  // Deliveries through the worker: every format of the studio, from the approved print.
   await owner.goto(`/releases/${releaseId}/delivery`);
   await owner.getByRole("button", { name: "Make deliveries" }).click();
   await expect(owner.getByText(/deliver(y|ies) queued/)).toBeVisible();

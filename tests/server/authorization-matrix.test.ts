@@ -218,6 +218,8 @@ const cases: Case[] = [
   { route: "/api/*", file: "routes/api.not-found.ts", kind: "action", handler: api(apiNotFound.action), path: () => "/api/nothing", form: {}, expected: everyone("404") },
   { route: "/releases/:releaseId/delivery", file: "routes/release-delivery.tsx", kind: "loader", handler: releaseDelivery.loader as Handler, path: (f) => `/releases/${f.releaseId}/delivery`, params: rel, expected: releaseStaff },
   { route: "/releases/:releaseId/delivery", file: "routes/release-delivery.tsx", kind: "action", handler: releaseDelivery.action as Handler, path: (f) => `/releases/${f.releaseId}/delivery`, params: rel, form: { intent: "add-format", name: "" }, expected: releaseStaff },
+  // Unconfirmed: staff get the 400 asking to confirm; nothing is deleted.
+  { route: "/releases/:releaseId/delivery (delete-format)", file: "routes/release-delivery.tsx", kind: "action", handler: releaseDelivery.action as Handler, path: (f) => `/releases/${f.releaseId}/delivery`, params: rel, form: { intent: "delete-format", formatId: "" }, expected: releaseStaff },
   { route: "/releases/:releaseId/loudness-report", file: "routes/loudness-report.tsx", kind: "loader", handler: loudnessReportPage.loader as Handler, path: (f) => `/releases/${f.releaseId}/loudness-report`, params: rel, expected: releaseViewers },
   { route: "/settings/billing", file: "routes/settings-billing-page.tsx", kind: "loader", handler: settingsBillingPage.loader as Handler, path: () => "/settings/billing", expected: ownerOnly },
   { route: "/settings/billing", file: "routes/settings-billing-page.tsx", kind: "action", handler: settingsBillingPage.action as Handler, path: () => "/settings/billing", form: { currency: "" }, expected: ownerOnly },

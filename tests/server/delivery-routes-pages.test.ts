@@ -15,6 +15,7 @@ import { makeDelivery } from "../../app/lib/delivery/make-delivery.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { stopQueue } from "../../app/jobs/queue.server.ts";
 import { buildInvoice, sendInvoice } from "../../app/models/invoice.server.ts";
+import { completeDelivery, createDelivery, latestDeliveries, releasePackage, studioFormats } from "../../app/models/delivery.server.ts";
 import * as delivery from "../../app/routes/release-delivery.tsx";
 import * as report from "../../app/routes/loudness-report.tsx";
 import * as billingPage from "../../app/routes/settings-billing-page.tsx";
@@ -128,14 +129,24 @@ describe("delivery page", () => {
     expect((await db("delivery_formats").where({ id: foreign.id }).first()).name).toBe("Elsewhere");
   });
 
-  it("queues one delivery per track and format; made, they show with warnings and in the report", async () => {
-    const empty = dataOf<{ queued: number; tracksWithoutPrint: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
-    expect(empty.body).toMatchObject({ queued: 0, tracksWithoutPrint: 1 });
+  type Page = { tracks: { id: string; review: string; delivered: boolean; reason: string | null }[] };
 
-    await storedPrint();
-    const made = dataOf<{ queued: number; tracksWithoutPrint: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
+  it("queues one delivery per approved track and format; made, they show with warnings and in the report", async () => {
+    const empty = dataOf<{ queued: number; leftOut: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
+    expect(empty.body).toMatchObject({ queued: 0, leftOut: 1 });
+
+    // A print sent for review but not approved yet is not delivered, and the page says why.
+    const printId = await storedPrint();
+    await db("review_requests").insert({ track_id: fixture.trackId, render_id: printId, sent_by: fixture.users.engineer.id, created_at: new Date(Date.now() + 1_000) });
+    expect(dataOf<{ queued: number; leftOut: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" })).body).toMatchObject({ queued: 0, leftOut: 1 });
+    const waiting = (await call(delivery.loader, "engineer", "/delivery")) as Page;
+    expect(waiting.tracks).toEqual([{ id: fixture.trackId, position: 1, title: expect.any(String), review: "Sent for review", delivered: false, reason: expect.stringMatching(/not given a verdict/) }]);
+
+    await db("review_events").insert({ track_id: fixture.trackId, render_id: printId, kind: "approve", user_id: fixture.users.client.id, created_at: new Date(Date.now() + 2_000) });
+    expect(((await call(delivery.loader, "engineer", "/delivery")) as Page).tracks[0]).toMatchObject({ review: "Approved", delivered: true, reason: null });
+    const made = dataOf<{ queued: number; leftOut: number }>(await call(delivery.action, "engineer", "/delivery", { intent: "make" }));
     const formats = await db("delivery_formats").where({ release_id: fixture.releaseId });
-    expect(made.body).toMatchObject({ queued: formats.length, tracksWithoutPrint: 0 });
+    expect(made.body).toMatchObject({ queued: formats.length, leftOut: 0 });
     const rows = await db("deliveries").where({ release_id: fixture.releaseId }).select("id", "state");
     expect(rows.map((r) => r.state)).toEqual(formats.map(() => "queued"));
     // Each queued delivery has its job in the deliver queue.
@@ -156,6 +167,72 @@ describe("delivery page", () => {
     // Turn-down = integrated − reference where louder (−9 − −14 = 5 dB, −9 − −23 = 14 dB).
     expect(row.turnDownDb[0]).toBeCloseTo(row.integratedLufs + 14, 6);
     expect(row.turnDownDb[1]).toBeCloseTo(row.integratedLufs + 23, 6);
+  });
+
+  it("deletes a format after confirmation; its finished file stays listed but leaves the package", async () => {
+    type Listing = { formats: { id: string; name: string }[]; deleting: { id: string; name: string; finishedFiles: number } | null; deliveries: { formatName: string; formatKept: boolean }[] };
+    const before = (await call(delivery.loader, "engineer", "/delivery")) as Listing;
+    const loud = before.formats.find((f) => f.name === "Loud web")!;
+    const asking = (await call(delivery.loader, "engineer", `/delivery?delete=${loud.id}`)) as Listing;
+    expect(asking.deleting).toEqual({ id: loud.id, name: "Loud web", finishedFiles: 1 });
+    // Without the confirmation nothing happens.
+    const unconfirmed = dataOf<{ errors: Record<string, string> }>(await call(delivery.action, "engineer", "/delivery", { intent: "delete-format", formatId: loud.id }));
+    expect(unconfirmed.status).toBe(400);
+    expect(await db("delivery_formats").where({ id: loud.id }).first()).toBeDefined();
+    // A format of another release is refused.
+    const [foreign] = await db("delivery_formats").where({ release_id: fixture.otherReleaseId }).select("id");
+    expect(dataOf(await call(delivery.action, "engineer", "/delivery", { intent: "delete-format", formatId: foreign.id, confirm: "yes" })).status).toBe(400);
+
+    const { stream: first, files: packagedBefore } = await releasePackage(fixture.releaseId);
+    first.destroy();
+    expect(packagedBefore.some((f) => f.startsWith("Loud web/"))).toBe(true);
+    const deleted = (await call(delivery.action, "engineer", "/delivery", { intent: "delete-format", formatId: loud.id, confirm: "yes" })) as Response;
+    expect(deleted.headers.get("Location")).toBe(`/releases/${fixture.releaseId}/delivery`);
+    const after = (await call(delivery.loader, "engineer", "/delivery")) as Listing;
+    expect(after.formats.map((f) => f.name)).toEqual(before.formats.filter((f) => f.id !== loud.id).map((f) => f.name));
+    expect(after.deliveries.find((d) => d.formatName === "Loud web")).toMatchObject({ formatKept: false });
+    const { stream, files } = await releasePackage(fixture.releaseId);
+    stream.destroy();
+    expect(files.some((f) => f.startsWith("Loud web/"))).toBe(false);
+    expect(files.length).toBe(packagedBefore.length - 1);
+    const row = await db("deliveries").where({ release_id: fixture.releaseId }).whereRaw(`format->>'name' = 'Loud web'`).first();
+    expect(row).toMatchObject({ state: "done", format_id: null });
+    expect(await storage().exists(row.storage_key)).toBe(true);
+
+    // The last format cannot go: the release would fall back to the studio's defaults unasked.
+    for (const f of after.formats.slice(1)) await call(delivery.action, "engineer", "/delivery", { intent: "delete-format", formatId: f.id, confirm: "yes" });
+    const last = dataOf<{ errors: Record<string, string> }>(await call(delivery.action, "engineer", "/delivery", { intent: "delete-format", formatId: after.formats[0]!.id, confirm: "yes" }));
+    expect(last.status).toBe(400);
+    expect(last.body.errors.form).toMatch(/at least one format/);
+  });
+});
+
+describe("delivery formats and files already made", () => {
+  it("keeps the files when the defaults are copied in; a changed setting takes its file out of the format", async () => {
+    const [rel] = await db("releases").insert({ studio_id: fixture.studioId, client_id: fixture.clientId, title: `Copy ${fixture.tag}`, kind: "single" }).returning("id");
+    const [track] = await db("tracks").insert({ release_id: rel.id, position: 1, title: "Copied" }).returning("id");
+    const [mix] = await db("mixes").insert({ track_id: track.id, version: 1, original_name: "m.wav", storage_key: `mixes/${randomUUID()}.wav`, size_bytes: 1000, sample_rate_hz: 48000, channels: 2, bit_depth: 24, sample_format: "int", frames: 10 }).returning("id");
+    const [chain] = await db("chains").insert({ studio_id: fixture.studioId, track_id: track.id, name: "Copy chain" }).returning("id");
+    const [rev] = await db("chain_revisions").insert({ chain_id: chain.id, revision: 1, params: JSON.stringify({ stages: [] }) }).returning("id");
+    const [print] = await db("renders").insert({ mix_id: mix.id, chain_revision_id: rev.id, kind: "print", state: "done", output_key: `renders/${randomUUID()}.wav`, finished_at: db.fn.now() }).returning("id");
+    const defaults = await studioFormats(fixture.studioId);
+    for (const [i, f] of defaults.entries()) {
+      const id = await createDelivery({ trackId: track.id, formatId: f.id, sourceRenderId: print.id });
+      await completeDelivery(id, { storageKey: `deliveries/${rel.id}/${i}.wav`, sizeBytes: 100, analysis: { integratedLufs: -14, loudnessRangeLu: 3, truePeakDbtp: -1.2 } });
+    }
+    const act = (form: Record<string, string>) => delivery.action({ request: requestAs(fixture, "engineer", `/releases/${rel.id}/delivery`, { form }), params: { releaseId: rel.id }, context: {} } as never);
+    const first = defaults[0]!;
+    const same = { intent: "add-format", formatId: first.id, sampleRate: String(first.sampleRate), bitDepth: String(first.bitDepth), dither: first.dither, ceilingDbtp: String(first.ceilingDbtp), targetLufs: first.targetLufs === undefined ? "" : String(first.targetLufs) };
+    // A new name only: the defaults are copied in, and both files now belong to the copies.
+    await act({ ...same, name: "Renamed" });
+    const own = await db("delivery_formats").where({ release_id: rel.id }).orderBy("position");
+    expect(own.map((f) => f.name)).toEqual(["Renamed", ...defaults.slice(1).map((f) => f.name)]);
+    expect(new Set((await latestDeliveries(rel.id)).map((d) => d.formatId))).toEqual(new Set(own.map((f) => f.id)));
+    // A new ceiling: the file made to the old one leaves the format.
+    await act({ ...same, formatId: own[0].id, name: "Renamed", ceilingDbtp: "-2" });
+    expect((await latestDeliveries(rel.id)).map((d) => d.formatId)).toEqual(own.slice(1).map((f) => f.id));
+    await db("renders").where({ id: print.id }).delete();
+    await db("releases").where({ id: rel.id }).delete();
   });
 });
 
