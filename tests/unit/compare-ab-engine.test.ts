@@ -29,7 +29,7 @@ class FakeContext implements ContextLike {
   destination = { name: "out" };
   state = "suspended";
   gains: (GainLike & { gain: FakeParam })[] = [];
-  started: { buffer: BufferLike | null; when: number; offset: number; loop: boolean; loopStart: number; loopEnd: number; stopped: boolean }[] = [];
+  started: { buffer: BufferLike | null; when: number; offset: number; loop: boolean; loopStart: number; loopEnd: number; stopped: boolean; stopAt?: number }[] = [];
   createGain() {
     const g = { gain: new FakeParam(), connect: () => undefined, disconnect: () => undefined };
     this.gains.push(g);
@@ -48,8 +48,11 @@ class FakeContext implements ContextLike {
         ctx.started.push({ buffer: node.buffer, when, offset, loop: node.loop, loopStart: node.loopStart, loopEnd: node.loopEnd, stopped: false });
         record = ctx.started[ctx.started.length - 1];
       },
-      stop() {
-        if (record) record.stopped = true;
+      stop(when?: number) {
+        if (record) {
+          record.stopped = true;
+          record.stopAt = when;
+        }
       },
     };
     let record: FakeContext["started"][number] | undefined;
@@ -136,6 +139,59 @@ describe("AbEngine", () => {
   });
 });
 
+describe("AbEngine with partly loaded sources", () => {
+  const span = { startS: 0, endS: 40 };
+
+  it("plays and seeks within what both have decoded, and says when playback has caught up with the loading", async () => {
+    const ctx = new FakeContext();
+    const engine = new AbEngine(ctx, { A: { buffer: buffer(12, -20), offsetS: 0 }, B: { buffer: buffer(15, -20), offsetS: 0 } }, span);
+    expect(engine.span).toEqual(span);
+    expect(engine.availableEndS()).toBe(12);
+    expect(engine.partial()).toBe(true);
+    engine.seek(30);
+    expect(engine.positionS()).toBeCloseTo(12 - 1e-3, 9);
+    engine.seek(10);
+    await engine.play();
+    const when = ctx.started[0].when;
+    ctx.currentTime = when + 1;
+    expect(engine.starved()).toBe(false);
+    ctx.currentTime = when + 2;
+    expect(engine.starved()).toBe(true);
+    // A loop can only lie in decoded audio.
+    expect(engine.setLoop({ startS: 5, endS: 20 })).toEqual({ startS: 5, endS: 12 });
+  });
+
+  it("swaps in the whole buffer at one scheduled time on the shared clock, at the position the clock reaches then", async () => {
+    const ctx = new FakeContext();
+    const first = buffer(12, -20);
+    const engine = new AbEngine(ctx, { A: { buffer: first, offsetS: 20 }, B: { buffer: buffer(12, -20), offsetS: 20 } }, { startS: 20, endS: 60 });
+    engine.seek(25);
+    await engine.play();
+    const [a0, b0] = ctx.started;
+    ctx.currentTime = a0.when + 3.25;
+    const whole = buffer(40, -20);
+    engine.replaceBuffer("A", whole);
+    expect(ctx.started).toHaveLength(3);
+    const a1 = ctx.started[2];
+    // The old node stops exactly when the new one starts; B runs on untouched.
+    expect(a0.stopAt).toBe(a1.when);
+    expect(a1.when).toBeGreaterThan(ctx.currentTime);
+    expect(b0.stopped).toBe(false);
+    // At a1.when the clock is at 25 + (a1.when − a0.when) on the mix axis: that many seconds into A's buffer, which starts at 20 s.
+    expect(a1.offset).toBeCloseTo(5 + (a1.when - a0.when), 9);
+    expect(a1.buffer).toBe(whole);
+    expect(engine.availableEndS()).toBe(32);
+    engine.replaceBuffer("B", buffer(40, -20));
+    expect(engine.partial()).toBe(false);
+    expect(engine.availableEndS()).toBe(60);
+    // Paused: the buffer is kept for the next play, nothing starts.
+    engine.pause();
+    const count = ctx.started.length;
+    engine.replaceBuffer("A", buffer(40, -20));
+    expect(ctx.started).toHaveLength(count);
+  });
+});
+
 describe("player level matching", () => {
   it("measures the shared span of a preview against a print from the decoded audio", () => {
     const m = playerLevelMatch(
@@ -153,9 +209,24 @@ describe("player level matching", () => {
     const m = playerLevelMatch({ A: { buffer: buffer(5, -20), offsetS: 0, integratedLufs: -11.5 }, B: { buffer: buffer(5, -20), offsetS: 0, integratedLufs: -14 } }, { startS: 0, endS: 5 });
     expect(m).toMatchObject({ gainADb: -2.5, gainBDb: 0, aLufs: -11.5, bLufs: -14 });
   });
+
+  it("still uses the stored loudness of a whole source whose buffer holds only its first seconds so far", () => {
+    const whole = { startS: 0, endS: 40 };
+    const m = playerLevelMatch(
+      { A: { buffer: buffer(12, -20), offsetS: 0, whole, integratedLufs: -9 }, B: { buffer: buffer(12, -20), offsetS: 0, whole, integratedLufs: -13 } },
+      whole,
+    );
+    expect(m).toMatchObject({ gainADb: -4, gainBDb: 0, aLufs: -9, bLufs: -13 });
+  });
 });
 
 describe("peaks and numbers", () => {
+  it("draws a partly loaded buffer at its place: columns past its end stay flat", () => {
+    const x = new Float32Array(500).fill(0.5);
+    const { max } = computePeaks([x], 0, 1000, 10);
+    expect(Array.from(max)).toEqual([0.5, 0.5, 0.5, 0.5, 0.5, 0, 0, 0, 0, 0]);
+  });
+
   it("keeps each column's extremes, so a one-sample click still shows", () => {
     const x = new Float32Array(1000);
     x[737] = 0.9;

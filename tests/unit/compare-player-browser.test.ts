@@ -17,8 +17,8 @@ const SR = 48_000;
 const SECONDS = 6;
 
 /** 16-bit stereo PCM WAV of a 1 kHz sine at `dbfs`. */
-function sineWav(dbfs: number): Buffer {
-  const frames = SR * SECONDS;
+function sineWav(dbfs: number, seconds = SECONDS): Buffer {
+  const frames = SR * seconds;
   const data = Buffer.alloc(frames * 4);
   const amp = Math.round(32767 * Math.pow(10, dbfs / 20));
   for (let i = 0; i < frames; i++) {
@@ -59,6 +59,9 @@ describe.skipIf(!existsSync(CHROMIUM))("A/B player in chromium", () => {
     await symlink(resolve("node_modules"), join(dir, "node_modules"), "dir");
     await writeFile(join(dir, "a.wav"), sineWav(-14));
     await writeFile(join(dir, "b.wav"), sineWav(-20));
+    // Long enough to be loaded in two steps (progressive-wav.ts): 12 s first, then the rest.
+    await writeFile(join(dir, "long-a.wav"), sineWav(-14, 90));
+    await writeFile(join(dir, "long-b.wav"), sineWav(-20, 90));
     await writeFile(join(dir, "index.html"), `<!doctype html><html><head><meta charset="utf-8"></head><body><div id="root" style="width:900px"></div><script type="module" src="/main.tsx"></script></body></html>`);
     await writeFile(
       join(dir, "main.tsx"),
@@ -71,11 +74,22 @@ const aligned = alignTraces(
   { traces: { gridMs: 10, stages: [{ index: 2, type: "limit", names: ["gr"], gainReductionDb: [gr(250, 600)] }], shortTermLufs: Array(600).fill(-14) }, offsetS: 0 },
   { traces: { gridMs: 10, stages: [{ index: 2, type: "limit", names: ["gr"], gainReductionDb: [gr(50, 200)] }] }, offsetS: 2 },
 );
+// Records every value data-loaded takes, to see the player ready before the whole files are in.
+(window as unknown as { loadedStates: string[] }).loadedStates = [];
+new MutationObserver(() => {
+  const v = document.querySelector("[data-testid=ab-player]")?.getAttribute("data-loaded");
+  const seen = (window as unknown as { loadedStates: string[] }).loadedStates;
+  if (v && seen.at(-1) !== v) seen.push(v);
+}).observe(document.body, { subtree: true, attributes: true, childList: true });
 createRoot(document.getElementById("root")!).render(
+  location.search.includes("long") ? (
+    <AbPlayer a={{ url: "/long-a.wav", label: "long louder", integratedLufs: -17 }} b={{ url: "/long-b.wav", label: "long quieter", integratedLufs: -23 }} />
+  ) : (
   <>
     <AbPlayer a={{ url: "/a.wav", label: "louder" }} b={{ url: "/b.wav", label: "quieter" }} comments={[{ id: "c1", timeS: 2.5, body: "here" }]} />
     <TraceCharts aligned={aligned} positionS={1} labels={{ a: "louder", b: "quieter" }} />
-  </>,
+  </>
+  ),
 );`,
     );
     const { createServer } = await import("vite");
@@ -164,5 +178,36 @@ createRoot(document.getElementById("root")!).render(
     await page.getByRole("button", { name: "Play" }).click();
     expect(await page.getByTestId("monitoring-notice").count()).toBe(0);
     await page.getByRole("button", { name: "Pause" }).click();
+  });
+
+  it("starts a long pair from its first seconds, then swaps in the whole files while playing, on one clock", async () => {
+    const long = await browser!.newPage();
+    try {
+      // The safety notice was confirmed on the first page; this is a new page of the same test run.
+      await long.addInitScript(() => sessionStorage.setItem("tidemark:monitoring-level-set", "1"));
+      await long.goto(`${server!.resolvedUrls!.local[0]}?long`);
+      await long.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-state") === "ready", null, { timeout: 60_000 });
+      const longAttrs = () => long.getByTestId("ab-player").evaluate((el) => ({ ...(el as HTMLElement).dataset }));
+      // The position bar spans the whole 90 s from the first moment, before the rest has arrived.
+      expect(await long.getByLabel("Position").getAttribute("max")).toBe("90");
+      await long.getByRole("button", { name: "Play" }).click();
+      await long.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-loaded") === "full", null, { timeout: 60_000 });
+      const states = await long.evaluate(() => (window as unknown as { loadedStates: string[] }).loadedStates);
+      expect(states).toEqual(["none", "partial", "full"]);
+      // Stored loudness of the whole sources, 6 LU apart, is the match throughout.
+      expect(Number((await longAttrs()).matchGainDb)).toBeCloseTo(-6, 6);
+      // Still playing after the swap, the clock moving on.
+      const p1 = Number((await longAttrs()).positionS);
+      await long.waitForTimeout(600);
+      const after = await longAttrs();
+      expect(after.playing).toBe("true");
+      expect(Number(after.positionS)).toBeGreaterThan(p1 + 0.3);
+      // Past the first 12 s now: seekable anywhere once whole.
+      await long.getByLabel("Position").fill("70");
+      expect(Number((await longAttrs()).positionS)).toBeGreaterThanOrEqual(70);
+      console.log(`[player] long pair ready to play after ${(await longAttrs()).readyMs} ms (90 s, 2 × ${(90 * SR * 4 / 1e6).toFixed(1)} MB)`);
+    } finally {
+      await long.close();
+    }
   });
 });

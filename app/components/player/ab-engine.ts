@@ -8,6 +8,14 @@
 // offsetS (a preview starts at its region's start). Playback covers the span
 // both sources share, so either can be heard anywhere on the bar.
 //
+// A source may start with only the first seconds of its audio decoded (see
+// progressive-wav.ts): the span is then given from the files' headers, play
+// and seeks stay within what both have decoded (`availableEndS`), and
+// replaceBuffer swaps in the longer buffer later. A swap during playback is
+// scheduled on the same clock: the old node stops and the new one starts at
+// one `when`, at the position the clock reaches then, so nothing is heard
+// but the same samples continuing.
+//
 // The Web Audio types are narrowed to what is used, so tests can drive the
 // engine with a fake context in Node.
 import { dbToLinear } from "../../../dsp/units.ts";
@@ -71,14 +79,24 @@ export class AbEngine {
   private anchor = { ctxTime: 0, positionS: 0 };
   private pausedAtS: number;
 
+  private readonly sources: Record<SourceId, EngineSource>;
+
+  /**
+   * `span`: the shared stretch of the whole sources when the buffers hold only
+   * their beginning (it comes from the files' headers); by default, where the
+   * two buffers overlap.
+   */
   constructor(
     private readonly ctx: ContextLike,
-    private readonly sources: Record<SourceId, EngineSource>,
+    sources: Record<SourceId, EngineSource>,
+    span?: Region,
   ) {
-    const startS = Math.max(sources.A.offsetS, sources.B.offsetS);
-    const endS = Math.min(sources.A.offsetS + sources.A.buffer.duration, sources.B.offsetS + sources.B.buffer.duration);
+    this.sources = { A: { ...sources.A }, B: { ...sources.B } };
+    const startS = span?.startS ?? Math.max(sources.A.offsetS, sources.B.offsetS);
+    const endS = span?.endS ?? Math.min(sources.A.offsetS + sources.A.buffer.duration, sources.B.offsetS + sources.B.buffer.duration);
     if (!(endS > startS)) throw new Error("the two sources do not overlap in time");
     this.span = { startS, endS };
+    if (!(this.availableEndS() > startS)) throw new Error("the decoded audio does not reach into the shared span");
     this.pausedAtS = startS;
     this.gains = { A: ctx.createGain(), B: ctx.createGain() };
     for (const id of ["A", "B"] as const) {
@@ -127,16 +145,56 @@ export class AbEngine {
     this.applyGains();
   }
 
-  /** Where playback is now, on the mix's time axis. */
-  positionS(): number {
+  /** How far both sources are decoded, on the mix's time axis (the span's end once both are whole). */
+  availableEndS(): number {
+    const end = (id: SourceId) => this.sources[id].offsetS + this.sources[id].buffer.duration;
+    return Math.min(this.span.endS, end("A"), end("B"));
+  }
+
+  /** True while a source holds less than the span (its rest is still loading). */
+  partial(): boolean {
+    return this.availableEndS() < this.span.endS - 1e-3;
+  }
+
+  /** True once playback has run up to the end of what is decoded while more is still to come (the caller waits). */
+  starved(): boolean {
+    return this.playing && this.partial() && !this.loop && this.rawPositionAt(this.ctx.currentTime) >= this.availableEndS() - 0.01;
+  }
+
+  /**
+   * A longer buffer for a source, starting at the same place (its rest has
+   * arrived). During playback the old node hands over to the new one at one
+   * scheduled time, on the clock both sources share.
+   */
+  replaceBuffer(id: SourceId, buffer: BufferLike): void {
+    this.sources[id] = { ...this.sources[id], buffer };
+    const old = this.nodes[id];
+    if (!this.playing || !old) return;
+    const when = this.ctx.currentTime + START_AHEAD_S;
+    const node = this.createNode(id);
+    node.start(when, this.positionAt(when) - this.sources[id].offsetS);
+    old.stop(when);
+    this.nodes[id] = node;
+  }
+
+  private rawPositionAt(ctxTime: number): number {
+    return this.anchor.positionS + Math.max(0, ctxTime - this.anchor.ctxTime);
+  }
+
+  /** Where playback is (or will be) at a time of the context's clock, on the mix's time axis. */
+  private positionAt(ctxTime: number): number {
     if (!this.playing) return this.pausedAtS;
-    const elapsed = Math.max(0, this.ctx.currentTime - this.anchor.ctxTime);
-    const raw = this.anchor.positionS + elapsed;
+    const raw = this.rawPositionAt(ctxTime);
     if (this.loop && raw >= this.loop.endS) {
       const length = this.loop.endS - this.loop.startS;
       return this.loop.startS + ((raw - this.loop.startS) % length);
     }
     return Math.min(raw, this.span.endS);
+  }
+
+  /** Where playback is now, on the mix's time axis. */
+  positionS(): number {
+    return this.positionAt(this.ctx.currentTime);
   }
 
   /** True once playback without a loop has run past the shared span (the caller then pauses). */
@@ -146,23 +204,29 @@ export class AbEngine {
 
   private clampS(s: number): number {
     const { startS, endS } = this.loop ?? this.span;
+    const end = Math.min(endS, this.availableEndS());
     if (!Number.isFinite(s)) return startS;
-    return Math.min(Math.max(s, startS), endS - 1e-3);
+    return Math.min(Math.max(s, startS), end - 1e-3);
+  }
+
+  private createNode(id: SourceId): SourceNodeLike {
+    const { buffer, offsetS } = this.sources[id];
+    const node = this.ctx.createBufferSource();
+    node.buffer = buffer;
+    if (this.loop) {
+      node.loop = true;
+      node.loopStart = this.loop.startS - offsetS;
+      node.loopEnd = this.loop.endS - offsetS;
+    }
+    node.connect(this.gains[id]);
+    return node;
   }
 
   private startNodes(fromS: number): void {
     const when = this.ctx.currentTime + START_AHEAD_S;
     for (const id of ["A", "B"] as const) {
-      const { buffer, offsetS } = this.sources[id];
-      const node = this.ctx.createBufferSource();
-      node.buffer = buffer;
-      if (this.loop) {
-        node.loop = true;
-        node.loopStart = this.loop.startS - offsetS;
-        node.loopEnd = this.loop.endS - offsetS;
-      }
-      node.connect(this.gains[id]);
-      node.start(when, fromS - offsetS);
+      const node = this.createNode(id);
+      node.start(when, fromS - this.sources[id].offsetS);
       this.nodes[id] = node;
     }
     this.anchor = { ctxTime: when, positionS: fromS };
@@ -184,7 +248,7 @@ export class AbEngine {
     if (this.playing) return;
     if (this.ctx.state !== "running") await this.ctx.resume();
     let from = this.clampS(this.pausedAtS);
-    if (!this.loop && from >= this.span.endS - 0.01) from = this.span.startS;
+    if (!this.loop && !this.partial() && from >= this.span.endS - 0.01) from = this.span.startS;
     this.startNodes(from);
     this.playing = true;
   }
@@ -206,12 +270,12 @@ export class AbEngine {
     }
   }
 
-  /** Loops over `region` (clamped to the shared span), or stops looping with null. */
+  /** Loops over `region` (clamped to the shared span, and to what is decoded so far), or stops looping with null. */
   setLoop(region: Region | null): Region | null {
     const position = this.positionS();
     if (region) {
       const startS = Math.max(this.span.startS, Math.min(region.startS, region.endS));
-      const endS = Math.min(this.span.endS, Math.max(region.startS, region.endS));
+      const endS = Math.min(this.availableEndS(), Math.max(region.startS, region.endS));
       this.loop = endS - startS >= MIN_LOOP_S ? { startS, endS } : null;
     } else {
       this.loop = null;

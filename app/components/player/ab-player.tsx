@@ -1,11 +1,16 @@
-// The A/B player: two renders (or a render and its mix) fetched, decoded and
-// played on one AudioContext clock (see ab-engine.ts), switched instantly by
-// button or key, level-matched by default, looped over a chosen region.
+// The A/B player: two sources (renders, mixes) fetched, decoded and played on
+// one AudioContext clock (see ab-engine.ts), switched instantly by button or
+// key, level-matched by default, looped over a chosen region. Loading is
+// progressive (progressive-wav.ts): play may begin once the first seconds of
+// the span both share are decoded; the rest is swapped in as it arrives.
 // Keys (outside text fields): A and B choose, S switches, Space plays/pauses.
 // The state is in the DOM for tests: data-active-source, data-match-gain-db
-// (the gain on the source being heard), data-matching, data-playing, data-state.
+// (the gain on the source being heard), data-matching, data-playing,
+// data-state, data-loaded (partial/full) and data-ready-ms (from mount to
+// ready to play).
 import { useCallback, useEffect, useRef, useState } from "react";
 import { AbEngine, type ContextLike, type Region, type SourceId } from "./ab-engine.ts";
+import { openPair, type LoadedPart } from "./progressive-wav.ts";
 import { formatClock, formatDb } from "./format.ts";
 import { playerLevelMatch } from "./match.ts";
 import { MonitoringNotice, MonitoringReminder, useMonitoringAck } from "./monitoring-notice.tsx";
@@ -33,20 +38,21 @@ export type AbPlayerProps = {
   initialLoop?: Region | null;
 };
 
+type Part = LoadedPart & { channels: Float32Array[] };
+
 type Loaded = {
   engine: AbEngine;
   ctx: AudioContext;
-  channels: Record<SourceId, Float32Array[]>;
+  parts: Record<SourceId, Part>;
   sampleRate: number;
 };
 
-type Match = { gainADb: number; gainBDb: number; differenceDb: number; matched: boolean; basis: "whole" | "loop" };
+type Match = { gainADb: number; gainBDb: number; differenceDb: number; matched: boolean; basis: "whole" | "loop"; provisional: boolean };
 
-async function decode(ctx: AudioContext, url: string, signal: AbortSignal) {
-  const response = await fetch(url, { signal, credentials: "same-origin" });
-  if (!response.ok) throw new Error(`could not load the audio (${response.status})`);
-  return ctx.decodeAudioData(await response.arrayBuffer());
-}
+const withChannels = (part: LoadedPart): Part => ({
+  ...part,
+  channels: Array.from({ length: part.buffer.numberOfChannels }, (_, c) => part.buffer.getChannelData(c)),
+});
 
 const isTyping = (target: EventTarget | null) =>
   target instanceof HTMLElement && (target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName));
@@ -63,6 +69,10 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
   const [match, setMatch] = useState<Match | null>(null);
   const [loop, setLoop] = useState<Region | null>(null);
   const [askLevel, setAskLevel] = useState(false);
+  const [readyMs, setReadyMs] = useState<number | null>(null);
+  // Playback that ran up to the end of what is decoded, waiting for the rest.
+  const waitingRef = useRef(false);
+  const [waiting, setWaiting] = useState(false);
   const [acked, ack] = useMonitoringAck();
   const reported = useRef({ atMs: 0, timeS: -1 });
   const onPositionRef = useRef(onPositionChange);
@@ -76,7 +86,7 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
     onPositionRef.current?.(positionS);
   }, [positionS, playing]);
 
-  // Fetch and decode both sources, then build the engine on one context.
+  // Open both sources (headers, then the first seconds), build the engine on one context, swap in the rest as it arrives.
   useEffect(() => {
     const abort = new AbortController();
     const Ctor = window.AudioContext ?? (window as unknown as { webkitAudioContext?: typeof AudioContext }).webkitAudioContext;
@@ -86,21 +96,45 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
       return;
     }
     const ctx = new Ctor();
+    const startedMs = performance.now();
     setStatus("loading");
     (async () => {
-      const [bufA, bufB] = await Promise.all([decode(ctx, a.url, abort.signal), decode(ctx, b.url, abort.signal)]);
-      const engine = new AbEngine(ctx as unknown as ContextLike, {
-        A: { buffer: bufA, offsetS: a.offsetS ?? 0 },
-        B: { buffer: bufB, offsetS: b.offsetS ?? 0 },
-      });
-      const channelsOf = (buf: AudioBuffer) => Array.from({ length: buf.numberOfChannels }, (_, c) => buf.getChannelData(c));
-      const next: Loaded = { engine, ctx, channels: { A: channelsOf(bufA), B: channelsOf(bufB) }, sampleRate: ctx.sampleRate };
-      if (abort.signal.aborted) return engine.dispose();
+      const opened = await openPair(
+        { A: { url: a.url, offsetS: a.offsetS ?? 0 }, B: { url: b.url, offsetS: b.offsetS ?? 0 } },
+        { fetch: (url, init) => fetch(url, init), decode: (wav) => ctx.decodeAudioData(wav), signal: abort.signal },
+      );
+      if (abort.signal.aborted) return;
+      const engine = new AbEngine(
+        ctx as unknown as ContextLike,
+        { A: { buffer: opened.first.A.buffer, offsetS: opened.first.A.offsetS }, B: { buffer: opened.first.B.buffer, offsetS: opened.first.B.offsetS } },
+        opened.span,
+      );
+      const next: Loaded = { engine, ctx, parts: { A: withChannels(opened.first.A), B: withChannels(opened.first.B) }, sampleRate: ctx.sampleRate };
       loadedRef.current = next;
       setLoaded(next);
       setPositionS(engine.span.startS);
       if (initialLoop) setLoop(engine.setLoop(initialLoop));
+      setReadyMs(Math.round(performance.now() - startedMs));
       setStatus("ready");
+      for (const id of ["A", "B"] as const) {
+        opened.rest[id]
+          ?.then(async (part) => {
+            if (abort.signal.aborted) return;
+            engine.replaceBuffer(id, part.buffer);
+            setLoaded((prev) => (prev && prev.engine === engine ? { ...prev, parts: { ...prev.parts, [id]: withChannels(part) } } : prev));
+            if (waitingRef.current && !engine.partial()) {
+              waitingRef.current = false;
+              setWaiting(false);
+              await engine.play();
+              setPlaying(true);
+            }
+          })
+          .catch((e: unknown) => {
+            if (abort.signal.aborted) return;
+            // What is decoded still plays; the rest could not be fetched.
+            setError(`the rest of ${id} could not be loaded: ${e instanceof Error ? e.message : String(e)}`);
+          });
+      }
     })().catch((e: unknown) => {
       if (abort.signal.aborted) return;
       setStatus("error");
@@ -110,6 +144,7 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
       abort.abort();
       loadedRef.current?.engine.dispose();
       loadedRef.current = null;
+      waitingRef.current = false;
       setLoaded(null);
       void ctx.close().catch(() => {});
     };
@@ -122,13 +157,16 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
     const { engine } = loaded;
     const region = loop ?? engine.span;
     const timer = setTimeout(() => {
+      const { A, B } = loaded.parts;
       const sources = {
-        A: { buffer: bufferOf(loaded, "A"), offsetS: a.offsetS ?? 0, integratedLufs: a.integratedLufs },
-        B: { buffer: bufferOf(loaded, "B"), offsetS: b.offsetS ?? 0, integratedLufs: b.integratedLufs },
+        A: { buffer: A.buffer, offsetS: A.offsetS, whole: A.whole, integratedLufs: a.integratedLufs },
+        B: { buffer: B.buffer, offsetS: B.offsetS, whole: B.whole, integratedLufs: b.integratedLufs },
       };
       const m = playerLevelMatch(sources, region);
       engine.setLevelMatch(m.gainADb, m.gainBDb);
-      setMatch({ gainADb: m.gainADb, gainBDb: m.gainBDb, differenceDb: m.differenceDb, matched: m.matched, basis: loop ? "loop" : "whole" });
+      // Measured on decoded audio that does not yet cover the region: measured again when the rest arrives.
+      const provisional = (m.aLufs !== a.integratedLufs || m.bLufs !== b.integratedLufs) && engine.availableEndS() < region.endS - 1e-3;
+      setMatch({ gainADb: m.gainADb, gainBDb: m.gainBDb, differenceDb: m.differenceDb, matched: m.matched, basis: loop ? "loop" : "whole", provisional });
     }, 0);
     return () => clearTimeout(timer);
   }, [loaded, loop, a.integratedLufs, b.integratedLufs, a.offsetS, b.offsetS]);
@@ -139,6 +177,15 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
     let frame = 0;
     const tick = () => {
       const { engine } = loaded;
+      if (engine.starved()) {
+        // Ran up to the end of what is decoded: wait for the rest, then go on from here.
+        engine.pause();
+        waitingRef.current = true;
+        setWaiting(true);
+        setPlaying(false);
+        setPositionS(engine.positionS());
+        return;
+      }
       if (engine.reachedEnd()) {
         engine.pause();
         engine.seek(engine.span.startS);
@@ -169,7 +216,10 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
 
   const playPause = useCallback(() => {
     if (!loaded) return;
-    if (loaded.engine.playing) {
+    if (waitingRef.current) {
+      waitingRef.current = false;
+      setWaiting(false);
+    } else if (loaded.engine.playing) {
       loaded.engine.pause();
       setPlaying(false);
       setPositionS(loaded.engine.positionS());
@@ -215,7 +265,9 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
 
   const appliedDb = match && matching ? (active === "A" ? match.gainADb : match.gainBDb) : 0;
   const span = loaded?.engine.span ?? { startS: 0, endS: 1 };
-  const heard = active === "A" ? a : b;
+  const heardPart = loaded?.parts[active] ?? null;
+  const partial = loaded ? !loaded.parts.A.complete || !loaded.parts.B.complete : false;
+  const availableEndS = loaded?.engine.availableEndS() ?? span.endS;
 
   return (
     <section
@@ -228,6 +280,8 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
       data-matching={matching ? "on" : "off"}
       data-playing={playing ? "true" : "false"}
       data-position-s={positionS.toFixed(2)}
+      data-loaded={loaded ? (partial ? "partial" : "full") : "none"}
+      data-ready-ms={readyMs ?? undefined}
     >
       <MonitoringReminder />
       {askLevel && (
@@ -273,12 +327,17 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
         </span>
       </div>
 
-      {status === "loading" && <p className="text-sm text-ink-soft">Loading both sources…</p>}
+      {status === "loading" && <p className="text-sm text-ink-soft">Loading the start of both sources…</p>}
+      {status === "ready" && partial && (
+        <p className="text-xs text-ink-soft" data-testid="loading-rest">
+          {waiting ? "Waiting for the rest of the audio…" : `Loading the rest: playable up to ${formatClock(availableEndS)} so far.`}
+        </p>
+      )}
       {loaded && (
         <Waveform
-          channels={loaded.channels[active]}
+          channels={heardPart!.channels}
           sampleRate={loaded.sampleRate}
-          offsetS={heard.offsetS ?? 0}
+          offsetS={heardPart!.offsetS}
           span={span}
           positionS={positionS}
           loop={loop}
@@ -327,6 +386,7 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
           <span className="text-xs text-ink-soft">
             A is <span className="num">{Math.abs(match.differenceDb).toFixed(1)} LU</span> {match.differenceDb >= 0 ? "louder" : "quieter"} than B
             {match.basis === "loop" ? " in the loop" : ""}
+            {match.provisional ? " (so far: measured on what has loaded)" : ""}
           </span>
         )}
         <span className="ml-auto inline-flex items-center gap-2">
@@ -350,16 +410,4 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
       </p>
     </section>
   );
-}
-
-function bufferOf(loaded: Loaded, id: SourceId) {
-  const channels = loaded.channels[id];
-  const length = channels[0]?.length ?? 0;
-  return {
-    duration: length / loaded.sampleRate,
-    sampleRate: loaded.sampleRate,
-    numberOfChannels: channels.length,
-    length,
-    getChannelData: (c: number) => channels[c],
-  };
 }

@@ -7,14 +7,23 @@
 import { levelMatch, measureRegionLufs, type LevelMatch } from "../../lib/compare/level-match.ts";
 import type { BufferLike, Region, SourceId } from "./ab-engine.ts";
 
-export type MatchSource = { buffer: BufferLike; offsetS: number; integratedLufs?: number | null };
+export type MatchSource = {
+  buffer: BufferLike;
+  /** Where the buffer's 0 s sits on the mix's time axis. */
+  offsetS: number;
+  integratedLufs?: number | null;
+  /** The whole source on the mix's time axis, when the buffer holds only part of it (still loading, or only the shared span). */
+  whole?: Region;
+};
 
 const channelsOf = (buffer: BufferLike) => Array.from({ length: Math.min(2, buffer.numberOfChannels) }, (_, c) => buffer.getChannelData(c));
 
 /** Loudness of `region` (mix axis) of a source, LUFS, or null when silent. */
 export function sourceLoudness(source: MatchSource, region: Region): number | null {
-  const whole = Math.abs(region.startS - source.offsetS) < 0.05 && Math.abs(region.endS - (source.offsetS + source.buffer.duration)) < 0.05;
+  const extent = source.whole ?? { startS: source.offsetS, endS: source.offsetS + source.buffer.duration };
+  const whole = Math.abs(region.startS - extent.startS) < 0.05 && Math.abs(region.endS - extent.endS) < 0.05;
   if (whole && typeof source.integratedLufs === "number") return source.integratedLufs;
+  // Otherwise what is decoded of the region is measured (all of it once the source has loaded).
   return measureRegionLufs(channelsOf(source.buffer), source.buffer.sampleRate, region.startS - source.offsetS, region.endS - source.offsetS);
 }
 
