@@ -33,7 +33,8 @@ export type Invoice = {
   currency: string;
   state: InvoiceState;
   totalCents: number;
-  checkoutSessionId: string | null;
+  /** Every payment page opened for it, oldest first. */
+  checkoutSessionIds: string[];
   sentAt: Date | null;
   paidAt: Date | null;
   voidedAt: Date | null;
@@ -49,7 +50,6 @@ export type InvoiceRow = {
   currency: string;
   state: InvoiceState;
   total_cents: number;
-  checkout_session_id: string | null;
   sent_at: Date | null;
   paid_at: Date | null;
   voided_at: Date | null;
@@ -68,6 +68,7 @@ async function withLines(conn: Conn, row: InvoiceRow): Promise<Invoice> {
     .where({ invoice_id: row.id })
     .orderBy("position")
     .select("id", "position", "kind", "track_id as trackId", "description", "quantity", "unit_cents as unitCents", "amount_cents as amountCents");
+  const sessions = await conn("invoice_checkout_sessions").where({ invoice_id: row.id }).orderBy("created_at").select<{ session_id: string }[]>("session_id");
   return {
     id: row.id,
     studioId: row.studio_id,
@@ -76,7 +77,7 @@ async function withLines(conn: Conn, row: InvoiceRow): Promise<Invoice> {
     currency: row.currency,
     state: row.state,
     totalCents: row.total_cents,
-    checkoutSessionId: row.checkout_session_id,
+    checkoutSessionIds: sessions.map((s) => s.session_id),
     sentAt: row.sent_at,
     paidAt: row.paid_at,
     voidedAt: row.voided_at,
@@ -215,9 +216,11 @@ export async function voidInvoice(invoiceId: string, conn: Knex = db): Promise<I
 }
 
 /**
- * Opens a hosted payment page for a sent invoice and remembers its session,
- * so the completed-payment event can be matched to the invoice. An open
- * page is reused; once it expired, a new one replaces it.
+ * Opens a hosted payment page for a sent invoice and records its session
+ * beside the invoice's earlier ones (invoice_checkout_sessions), so the
+ * completed-payment event of any of them is matched to the invoice. The
+ * newest page is offered again while it is open and asks the current amount;
+ * otherwise a new one is opened.
  */
 export async function startCheckout(
   invoiceId: string,
@@ -228,10 +231,10 @@ export async function startCheckout(
   const row = await conn<InvoiceRow>("invoices").where({ id: invoiceId }).first();
   if (!row) throw new BillingError("no such invoice");
   if (row.state !== "sent") throw new BillingError(`only a sent invoice can be paid (this one is ${row.state})`);
-  // A payment page still open is offered again: a second page would replace the
-  // remembered session, and paying on the first would then not be recognised.
-  if (row.checkout_session_id) {
-    const open = await (options.client ?? getPaymentsClient()).checkout.sessions.retrieve(row.checkout_session_id).catch(() => null);
+  const client = options.client ?? getPaymentsClient();
+  const newest = await conn("invoice_checkout_sessions").where({ invoice_id: invoiceId }).orderBy("created_at", "desc").first<{ session_id: string; amount_cents: number; currency: string } | undefined>();
+  if (newest && newest.amount_cents === row.total_cents && newest.currency === row.currency) {
+    const open = await client.checkout.sessions.retrieve(newest.session_id).catch(() => null);
     if (open && open.status === "open" && open.url && open.amount_total === row.total_cents) return { sessionId: open.id, url: open.url };
   }
   const names = await releaseAndStudio(conn, row.release_id);
@@ -245,11 +248,34 @@ export async function startCheckout(
       cancelUrl: urls.cancelUrl,
       customerEmail: options.customerEmail ?? null,
     },
-    options.client,
+    client,
   );
-  const updated = await conn("invoices").where({ id: invoiceId, state: "sent" }).update({ checkout_session_id: session.id, updated_at: conn.fn.now() });
-  if (updated !== 1) throw new BillingError("the invoice changed while the payment page was being opened");
+  await conn.transaction(async (trx) => {
+    const now = await trx<InvoiceRow>("invoices").where({ id: invoiceId }).forUpdate().first("state", "total_cents");
+    if (now?.state !== "sent" || now.total_cents !== row.total_cents) throw new BillingError("the invoice changed while the payment page was being opened");
+    await trx("invoice_checkout_sessions").insert({ session_id: session.id, invoice_id: invoiceId, amount_cents: row.total_cents, currency: row.currency });
+  });
   return { sessionId: session.id, url: session.url };
+}
+
+/**
+ * Once an invoice is paid, its other payment pages still open are expired at
+ * the provider, so nobody pays twice. Best effort: a page that cannot be
+ * expired (already complete or expired) is left as it is; a payment that
+ * still lands is recorded by the webhook on its session row.
+ */
+export async function expireOtherCheckouts(invoiceId: string, paidSessionId: string, options: { client?: Stripe } = {}, conn: Conn = db): Promise<string[]> {
+  const client = options.client ?? getPaymentsClient();
+  const others = await conn("invoice_checkout_sessions").where({ invoice_id: invoiceId }).whereNull("paid_at").whereNot({ session_id: paidSessionId }).select<{ session_id: string }[]>("session_id");
+  const expired: string[] = [];
+  for (const { session_id } of others) {
+    const done = await client.checkout.sessions.expire(session_id).then(
+      () => true,
+      () => false,
+    );
+    if (done) expired.push(session_id);
+  }
+  return expired;
 }
 
 /** Finals unlock once the release's invoice is paid. */

@@ -61,7 +61,7 @@ describe("the invoice route", () => {
     const url = await location("client", "pay");
     expect(url).toMatch(new RegExp(`^${fake.url}/pay/cs_test_`));
     const invoice = (await getInvoiceForRelease(fixture.releaseId))!;
-    expect(url).toBe(`${fake.url}/pay/${invoice.checkoutSessionId}`);
+    expect(url).toBe(`${fake.url}/pay/${invoice.checkoutSessionIds.at(-1)}`);
     const page = await fetch(url).then((r) => r.text());
     expect(page).toContain("€123.45");
     expect(((await run("owner", "bogus")) as Response).status).toBe(400);

@@ -14,7 +14,7 @@ import { createPaymentsClient } from "../../app/lib/payments/payments.server.ts"
 import { buildInvoiceLines, extraRevisions } from "../../app/lib/billing/invoice-lines.ts";
 import { canMove, InvoiceStateError } from "../../app/lib/billing/invoice-state.ts";
 import { action as webhookAction } from "../../app/routes/api.payments.webhook.ts";
-import { buildInvoice, getInvoice, isReleasePaid, sendInvoice, startCheckout, voidInvoice, BillingError } from "../../app/models/invoice.server.ts";
+import { buildInvoice, expireOtherCheckouts, getInvoice, isReleasePaid, sendInvoice, startCheckout, voidInvoice, BillingError } from "../../app/models/invoice.server.ts";
 import { saveStudioSettings } from "../../app/models/studio-settings.server.ts";
 import { createFixture, destroyFixture, type Fixture } from "./fixtures.ts";
 
@@ -194,7 +194,7 @@ describe("an invoice from draft to paid", () => {
   it("is paid through Checkout: the fake's signed webhook reaches the route and marks it paid", async () => {
     expect(await isReleasePaid(fixture.releaseId)).toBe(false);
     const { sessionId, url } = await startCheckout(invoiceId, urls, { client, customerEmail: fixture.users.client.email });
-    expect((await invoiceRow(invoiceId)).checkout_session_id).toBe(sessionId);
+    expect((await getInvoice(invoiceId))!.checkoutSessionIds).toEqual([sessionId]);
     const session = await client.checkout.sessions.retrieve(sessionId);
     expect(session.amount_total).toBe(3 * TRACK_CENTS + 2 * REVISION_CENTS);
 
@@ -214,7 +214,8 @@ describe("an invoice from draft to paid", () => {
   it("a replayed event changes nothing", async () => {
     const before = await invoiceRow(invoiceId);
     const events = (await fetch(`${fake.url}/_fake/events`).then((r) => r.json())) as { event: { id: string; data: { object: { id: string } } } }[];
-    const event = events.find((e) => e.event.data.object.id === before.checkout_session_id)!;
+    const [sessionId] = (await getInvoice(invoiceId))!.checkoutSessionIds;
+    const event = events.find((e) => e.event.data.object.id === sessionId)!;
     const resend = await fetch(`${fake.url}/_fake/events/${event.event.id}/resend`, { method: "POST" });
     expect(((await resend.json()) as { status: number }).status).toBe(200);
     expect(responses.at(-1)!.body.outcome).toBe("replay");
@@ -287,6 +288,68 @@ describe("events that must not mark an invoice paid", () => {
     const fresh = await buildInvoice(releaseId);
     expect(fresh.id).not.toBe(invoiceId);
     expect((await getInvoice(fresh.id))!.state).toBe("draft");
+  });
+});
+
+describe("an invoice with two payment pages", () => {
+  /** A sent invoice with two recorded sessions: the first page expired, so a second was opened. */
+  async function twoSessions(title: string) {
+    const releaseId = await addRelease(title);
+    const invoice = await buildInvoice(releaseId);
+    await sendInvoice(invoice.id, { appUrl: "http://127.0.0.1:3100" });
+    const first = await startCheckout(invoice.id, urls, { client });
+    await client.checkout.sessions.expire(first.sessionId);
+    const second = await startCheckout(invoice.id, urls, { client });
+    expect(second.sessionId).not.toBe(first.sessionId);
+    expect((await getInvoice(invoice.id))!.checkoutSessionIds).toEqual([first.sessionId, second.sessionId]);
+    return { releaseId, invoice, first: first.sessionId, second: second.sessionId };
+  }
+  const paidEvent = (sessionId: string, amount: number) => {
+    const body = completedEvent({ id: sessionId, amount_total: amount, currency: "eur" });
+    return postToWebhook(body, signPayload(body, DEFAULT_WEBHOOK_SECRET));
+  };
+
+  it("is marked paid by a payment on the newer page; a late payment on the older one changes nothing but is kept for a refund", async () => {
+    const { releaseId, invoice, first, second } = await twoSessions("Saltmarsh");
+    expect((await paidEvent(second, invoice.totalCents)).body.outcome).toBe("paid");
+    const paid = await invoiceRow(invoice.id);
+    expect(paid.state).toBe("paid");
+    expect(await isReleasePaid(releaseId)).toBe(true);
+    expect((await paidEvent(first, invoice.totalCents)).body.outcome).toBe("already-paid");
+    expect(await invoiceRow(invoice.id)).toEqual(paid);
+    expect(await outboxFor(invoice.id, "payment-receipt")).toHaveLength(1);
+    const sessions = await db("invoice_checkout_sessions").where({ invoice_id: invoice.id }).orderBy("created_at");
+    expect(sessions.map((s) => [s.session_id, s.paid_at !== null])).toEqual([
+      [first, true],
+      [second, true],
+    ]);
+  });
+
+  it("is marked paid by a payment on the older page; a replay of it changes nothing", async () => {
+    const { invoice, first } = await twoSessions("Brackwater");
+    const body = completedEvent({ id: first, amount_total: invoice.totalCents, currency: "eur" });
+    const signature = signPayload(body, DEFAULT_WEBHOOK_SECRET);
+    expect((await postToWebhook(body, signature)).body.outcome).toBe("paid");
+    const paid = await invoiceRow(invoice.id);
+    expect(paid.state).toBe("paid");
+    expect((await postToWebhook(body, signature)).body.outcome).toBe("replay");
+    expect(await invoiceRow(invoice.id)).toEqual(paid);
+    expect(await outboxFor(invoice.id, "payment-receipt")).toHaveLength(1);
+  });
+
+  it("closes the other open page once paid, so it cannot be paid twice", async () => {
+    const releaseId = await addRelease("Sandbar");
+    const invoice = await buildInvoice(releaseId);
+    await sendInvoice(invoice.id, { appUrl: "http://127.0.0.1:3100" });
+    const first = await startCheckout(invoice.id, urls, { client });
+    // A second page opened at the same time (another tab): both are recorded.
+    await db("invoice_checkout_sessions").where({ session_id: first.sessionId }).update({ amount_cents: invoice.totalCents + 1 });
+    const second = await startCheckout(invoice.id, urls, { client });
+    await db("invoice_checkout_sessions").where({ session_id: first.sessionId }).update({ amount_cents: invoice.totalCents });
+    expect((await client.checkout.sessions.retrieve(first.sessionId)).status).toBe("open");
+    expect((await paidEvent(second.sessionId, invoice.totalCents)).body.outcome).toBe("paid");
+    expect(await expireOtherCheckouts(invoice.id, second.sessionId, { client })).toEqual([first.sessionId]);
+    expect((await client.checkout.sessions.retrieve(first.sessionId)).status).toBe("expired");
   });
 });
 

@@ -1,9 +1,11 @@
 // Applies a verified payment event. In one transaction: the event is recorded
 // (a replay stops here), then only a completed Checkout session that we
-// opened (known session id), paid, for exactly the invoice's amount and
-// currency, marks its sent invoice paid and queues the receipt. Everything
-// else is recorded and otherwise ignored: answering with an error would only
-// make the provider send the same event again.
+// opened (any of the invoice's sessions, invoice_checkout_sessions), paid, for
+// exactly the invoice's amount and currency, marks its sent invoice paid and
+// queues the receipt. A second paid session of an invoice already paid is
+// recorded on its session row (to refund) and changes nothing else.
+// Everything else is recorded and otherwise ignored: answering with an error
+// would only make the provider send the same event again.
 import type { Knex } from "knex";
 import type Stripe from "stripe";
 import { queueEmail } from "../mail/mailer.server.ts";
@@ -14,7 +16,7 @@ import { publicAppUrl, releaseInvoiceLink } from "./links.ts";
 
 export type PaymentEventOutcome =
   | { outcome: "paid"; invoiceId: string }
-  | { outcome: "replay" | "ignored-type" | "unknown-session" | "not-paid" | "amount-mismatch" | "invoice-not-open"; invoiceId?: string };
+  | { outcome: "replay" | "ignored-type" | "unknown-session" | "not-paid" | "amount-mismatch" | "invoice-not-open" | "already-paid"; invoiceId?: string };
 
 type EventLike = Pick<Stripe.Event, "id" | "type"> & { data: { object: unknown } };
 
@@ -25,13 +27,21 @@ export async function handlePaymentEvent(db: Knex, event: EventLike, options: { 
     if (event.type !== "checkout.session.completed") return { outcome: "ignored-type" };
     const session = event.data.object as Partial<Stripe.Checkout.Session>;
     if (typeof session.id !== "string") return { outcome: "unknown-session" };
-    const invoice = await trx<InvoiceRow>("invoices").where({ checkout_session_id: session.id }).forUpdate().first();
-    if (!invoice) return { outcome: "unknown-session" };
+    const known = await trx("invoice_checkout_sessions").where({ session_id: session.id }).first<{ invoice_id: string; paid_at: Date | null } | undefined>("invoice_id", "paid_at");
+    if (!known) return { outcome: "unknown-session" };
+    // The invoice row is the lock: two sessions of one invoice paid at once are applied one after the other.
+    const invoice = (await trx<InvoiceRow>("invoices").where({ id: known.invoice_id }).forUpdate().first())!;
     if (session.payment_status !== "paid") return { outcome: "not-paid", invoiceId: invoice.id };
     if (session.amount_total !== invoice.total_cents || session.currency?.toUpperCase() !== invoice.currency) {
       return { outcome: "amount-mismatch", invoiceId: invoice.id };
     }
+    if (invoice.state === "paid") {
+      // Paid through another session before: money came twice. Kept on this session for the studio to refund.
+      if (!known.paid_at) await trx("invoice_checkout_sessions").where({ session_id: session.id }).update({ paid_at: trx.fn.now() });
+      return { outcome: "already-paid", invoiceId: invoice.id };
+    }
     if (invoice.state !== "sent") return { outcome: "invoice-not-open", invoiceId: invoice.id };
+    await trx("invoice_checkout_sessions").where({ session_id: session.id }).update({ paid_at: trx.fn.now() });
 
     const [paid] = await trx("invoices")
       .where({ id: invoice.id })
