@@ -45,7 +45,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   let changes: LabelledChange[] | null = null;
   if (staff && a && b) {
     const [ta, tb] = await Promise.all([sourceTraces(a), sourceTraces(b)]);
-    if (ta && tb) aligned = alignTraces({ traces: ta, offsetS: a.offsetS }, { traces: tb, offsetS: b.offsetS }, { maxPoints: MAX_TRACE_POINTS });
+    if (ta && tb) aligned = alignTraces({ traces: ta, offsetS: a.offsetS }, { traces: tb, offsetS: b.offsetS }, { maxPoints: MAX_TRACE_POINTS, shared: true });
     // What changed going from B's chain to A's; only two renders have chains to set side by side.
     if (a.render && b.render) changes = labelChanges(diffParams(b.render.params, a.render.params), b.render.params, a.render.params);
   }

@@ -83,6 +83,27 @@ describe("alignTraces", () => {
   });
 });
 
+describe("alignTraces against a mix", () => {
+  it("limits the axis to the span both cover, and takes a mix's loudness curve with no stages", () => {
+    const samples = mix();
+    const preview = render(samples, 10, 16, -24);
+    // A mix: nothing processed it, so only its short-term curve (16 s on the 10 ms grid).
+    const mixTraces: RenderTraces = { gridMs: GRID_MS, stages: [], shortTermLufs: Array.from({ length: 1600 }, (_, j) => -30 + j / 100) };
+    const aligned = alignTraces({ traces: preview, offsetS: 10 }, { traces: mixTraces, offsetS: 0 }, { shared: true });
+    expect([aligned.startS, aligned.endS]).toEqual([10, 16]);
+    expect(aligned.rows[0].timeS).toBe(10);
+    expect(aligned.panels.map((p) => [p.id, p.a, p.b])).toEqual([
+      ["s0:gr", "A:s0:gr", null],
+      ["loudness", null, "B:loudness"],
+    ]);
+    // The mix's curve keeps its own times: the value at 12 s is its 1200th step.
+    const at12 = aligned.rows.find((r) => Math.abs(r.timeS - 12) < 1e-9)!;
+    expect(at12["B:loudness"]).toBeCloseTo(-30 + 1200 / 100, 9);
+    // Without `shared`, everything either covers.
+    expect(alignTraces({ traces: preview, offsetS: 10 }, { traces: mixTraces, offsetS: 0 }).startS).toBe(0);
+  });
+});
+
 describe("labelChanges", () => {
   it("names the stage, band and unit of each changed parameter", () => {
     const before = { stages: [{ type: "eq", bands: [{ freqHz: 100, gainDb: 1 }] }, { type: "compress", ratio: 1.5, releaseMs: "auto" }], output: { bitDepth: 24 } };

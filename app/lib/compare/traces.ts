@@ -68,14 +68,21 @@ const spanEndS = (line: Line) => line.offsetS + (line.values.length * line.gridM
 
 /**
  * Puts two renders' traces on the mix's time axis. `startS`/`endS` limit the
- * span (default: everything either render covers).
+ * span (default: everything either render covers); `shared` limits it to
+ * the stretch both cover, which is what the A/B player plays (a preview
+ * against its whole mix: the preview's region).
  */
-export function alignTraces(a: TraceSource, b: TraceSource, options: { startS?: number; endS?: number; maxPoints?: number } = {}): AlignedTraces {
-  const lines = [...linesOf("A", a), ...linesOf("B", b)];
+export function alignTraces(a: TraceSource, b: TraceSource, options: { startS?: number; endS?: number; maxPoints?: number; shared?: boolean } = {}): AlignedTraces {
+  const linesA = linesOf("A", a);
+  const linesB = linesOf("B", b);
+  const lines = [...linesA, ...linesB];
   const gridMs = Math.max(a.traces.gridMs, b.traces.gridMs);
   const gridS = gridMs / 1000;
-  const startS = options.startS ?? Math.min(a.offsetS, b.offsetS);
-  const endS = options.endS ?? Math.max(startS, ...lines.map(spanEndS));
+  const coverEndS = (own: Line[], offsetS: number) => Math.max(offsetS, ...own.map(spanEndS));
+  const sharedEndS = Math.min(coverEndS(linesA, a.offsetS), coverEndS(linesB, b.offsetS));
+  const useShared = options.shared && linesA.length > 0 && linesB.length > 0 && sharedEndS > Math.max(a.offsetS, b.offsetS);
+  const startS = options.startS ?? (useShared ? Math.max(a.offsetS, b.offsetS) : Math.min(a.offsetS, b.offsetS));
+  const endS = options.endS ?? (useShared ? sharedEndS : Math.max(startS, ...lines.map(spanEndS)));
   const steps = Math.max(0, Math.ceil((endS - startS) / gridS - 1e-9));
   const maxPoints = Math.max(2, options.maxPoints ?? 2000);
   const bucketSteps = Math.max(1, Math.ceil(steps / maxPoints));
