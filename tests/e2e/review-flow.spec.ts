@@ -1,11 +1,14 @@
-// The client review in two browsers against the production build and a
-// worker (which delivers the mail outbox to the fake SMTP server). The test
-// sets up a track with a mix and a finished render as stored rows (a
-// synthesized WAV of our own; the render flow itself is render-flow.spec.ts).
-// The engineer sends it for review; the client opens the link from the
-// e-mail, sees the monitoring reminder, plays, leaves a comment at a time and
-// asks for changes; the engineer sees the comment marker, a second render is
-// sent; the client A/B-compares the two and approves the second.
+// The client review in two browsers against the production build and its
+// worker, which renders the previews and delivers the mail outbox to the fake
+// SMTP server. The engineer makes a track and uploads a synthesized mix of our
+// own through the API, renders a short preview of a region on the render page
+// and waits for the worker, listens to it against its own mix on the compare
+// page, and sends it for review. The client opens the link from the e-mail,
+// sees the monitoring reminder, plays, leaves a comment at a time and asks
+// for changes; the engineer sees the comment marker, renders again through
+// another template and sends that; the client A/B-compares the two
+// level-matched and approves the second. The owner finds the outbox in the
+// navigation.
 import { randomUUID } from "node:crypto";
 import { mkdirSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
 import os from "node:os";
@@ -14,20 +17,18 @@ import { expect, test, type Browser, type Page } from "@playwright/test";
 import knex from "knex";
 import knexConfig from "../../knexfile.ts";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
-import { storage } from "../../app/lib/storage/storage.server.ts";
 
 const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
 const CLIENT = "mirelle@quane.test";
+const OWNER = "owner@lanternquay.test";
 const ARTIFACTS = path.resolve("tests/artifacts");
 const db = knex(knexConfig);
 const tag = randomUUID().slice(0, 8);
 const trackTitle = `Review run ${tag}`;
 let releaseId = "";
 let trackId = "";
-let mixId = "";
 let tmp = "";
-const keys: string[] = [];
 
 async function signIn(page: Page, email: string) {
   await page.goto("/sign-in");
@@ -37,55 +38,33 @@ async function signIn(page: Page, email: string) {
   await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
 }
 
-/** 4 s of a stereo tone with a slow swell; `gain` makes the second "render" differ in level. */
-async function writeTone(filePath: string, gain: number) {
+/** 8 s of a stereo tone with a slow swell and a little noise: something for the chain's stages to act on. */
+async function writeMix(filePath: string) {
   const sampleRate = 44_100;
-  const frames = 4 * sampleRate;
+  const frames = 8 * sampleRate;
   const writer = await createWavWriter(filePath, { sampleRate, channels: 2, bitDepth: 16, float: false });
   const block = 4096;
   const out = [new Float64Array(block), new Float64Array(block)];
+  let seed = 0x1234567;
+  const noise = () => {
+    // xorshift32: the same mix on every run.
+    seed ^= seed << 13;
+    seed ^= seed >>> 17;
+    seed ^= seed << 5;
+    return ((seed >>> 0) / 0xffffffff) * 2 - 1;
+  };
   for (let start = 0; start < frames; start += block) {
     const n = Math.min(block, frames - start);
     for (let i = 0; i < n; i++) {
       const t = (start + i) / sampleRate;
-      const v = gain * (0.6 + 0.4 * Math.sin(2 * Math.PI * 0.5 * t)) * Math.sin(2 * Math.PI * 220 * t);
+      const swell = 0.6 + 0.4 * Math.sin(2 * Math.PI * 0.5 * t);
+      const v = 0.5 * swell * (Math.sin(2 * Math.PI * 220 * t) + 0.3 * Math.sin(2 * Math.PI * 70 * t)) + 0.05 * noise();
       out[0][i] = v;
       out[1][i] = v * 0.9;
     }
     await writer.write(out, n);
   }
   await writer.close();
-  return { sampleRate, frames };
-}
-
-/** A finished print of the mix, as the worker would leave it. */
-async function addFinishedRender(gain: number, integratedLufs: number): Promise<string> {
-  const id = randomUUID();
-  const file = path.join(tmp, `${id}.wav`);
-  await writeTone(file, gain);
-  const key = `renders/${id}/print.wav`;
-  const bytes = readFileSync(file);
-  await storage().put(key, bytes, { contentType: "audio/wav" });
-  keys.push(key);
-  const [chain] = await db("chains").insert({ studio_id: db("releases").where({ id: releaseId }).select("studio_id"), track_id: trackId, name: `Review chain ${id.slice(0, 4)}` }).returning("id");
-  const [rev] = await db("chain_revisions").insert({ chain_id: chain.id, revision: 1, params: JSON.stringify({ stages: [] }) }).returning("id");
-  await db("renders").insert({
-    id,
-    mix_id: mixId,
-    chain_revision_id: rev.id,
-    kind: "print",
-    state: "done",
-    progress: 1,
-    finished_at: db.fn.now(),
-    output_key: key,
-    output_size_bytes: bytes.length,
-    output_sample_rate_hz: 44_100,
-    output_channels: 2,
-    output_bit_depth: 16,
-    output_sample_format: "int",
-    output_analysis: JSON.stringify({ integratedLufs }),
-  });
-  return id;
 }
 
 type FakeMessage = { id: string; to: string[]; subject: string; text: string };
@@ -124,18 +103,10 @@ test.beforeAll(async () => {
   tmp = mkdtempSync(path.join(os.tmpdir(), "tidemark-review-e2e-"));
   const release = await db("releases").where({ title: "Lowlight Weather" }).first("id");
   releaseId = release.id;
-  const position = ((await db("tracks").where({ release_id: releaseId }).max("position as p").first())?.p ?? 0) + 1;
-  [{ id: trackId }] = await db("tracks").insert({ release_id: releaseId, position, title: trackTitle }).returning("id");
-  const mixFile = path.join(tmp, "mix.wav");
-  const { frames } = await writeTone(mixFile, 0.5);
-  mixId = randomUUID();
-  const mixKey = `mixes/${mixId}/mix.wav`;
-  await storage().put(mixKey, readFileSync(mixFile), { contentType: "audio/wav" });
-  keys.push(mixKey);
-  await db("mixes").insert({ id: mixId, track_id: trackId, version: 1, original_name: "review-run.wav", storage_key: mixKey, size_bytes: 1, sample_rate_hz: 44_100, channels: 2, bit_depth: 16, sample_format: "int", frames });
 });
 
 test.afterAll(async () => {
+  // Only what this run made: its track, with its mix, renders, chains, comments and review rows (the files stay in the test storage, which npm test starts empty).
   if (trackId) {
     await db("review_events").where({ track_id: trackId }).delete();
     await db("review_requests").where({ track_id: trackId }).delete();
@@ -145,7 +116,6 @@ test.afterAll(async () => {
     await db("mixes").where({ track_id: trackId }).delete();
     await db("tracks").where({ id: trackId }).delete();
   }
-  for (const key of keys) await storage().delete(key).catch(() => undefined);
   if (tmp) rmSync(tmp, { recursive: true, force: true });
   await db.destroy();
 });
@@ -157,6 +127,45 @@ async function newPage(browser: Browser, email: string) {
   return page;
 }
 
+/** Through the API, with the engineer's session: a new track on the release and the synthesized mix as its v1; waits for the worker's analysis. */
+async function trackWithMix(page: Page): Promise<string> {
+  const created = await page.request.post(`/api/releases/${releaseId}/tracks`, { data: { title: trackTitle } });
+  expect(created.status()).toBe(201);
+  trackId = ((await created.json()) as { track: { id: string } }).track.id;
+  const mixFile = path.join(tmp, "review-run.wav");
+  await writeMix(mixFile);
+  const upload = await page.request.post(`/api/tracks/${trackId}/mixes`, { data: readFileSync(mixFile), headers: { "Content-Type": "audio/wav", "X-File-Name": "review-run.wav" } });
+  expect(upload.status()).toBe(201);
+  const mixId = ((await upload.json()) as { mix: { id: string } }).mix.id;
+  // The mix's loudness (for level matching against it) comes from the worker's analysis.
+  await expect
+    .poll(async () => ((await (await page.request.get(`/api/tracks/${trackId}/mixes`)).json()) as { mixes: { analysisState: string }[] }).mixes[0]?.analysisState, { timeout: 60_000 })
+    .toBe("done");
+  return mixId;
+}
+
+/** On the render page: a preview of 1–5 s through a studio template; waits until the worker has finished it. */
+async function renderPreview(page: Page, template: string): Promise<string> {
+  await page.goto(`/releases/${releaseId}/tracks/${trackId}`);
+  await page.getByRole("link", { name: "New render" }).click();
+  await page.getByLabel("Chain").selectOption({ label: `${template} · rev 1 (template)` });
+  await page.getByLabel("From … to …").check();
+  await page.getByLabel("Start (s)").fill("1");
+  await page.getByLabel("End (s)").fill("5");
+  await page.getByRole("button", { name: "Render", exact: true }).click();
+  await expect(page.getByRole("heading", { level: 1, name: "Preview of v1" })).toBeVisible();
+  await expect(page.getByTestId("render-state")).toHaveAttribute("data-state", "done", { timeout: 90_000 });
+  const id = /\/renders\/([0-9a-f-]{36})/.exec(page.url())?.[1];
+  expect(id, "the render page's address names the render").toBeTruthy();
+  return id!;
+}
+
+/** The integrated loudness the worker measured on a render's output, from the API. */
+async function outputLufs(page: Page, renderId: string): Promise<number> {
+  const body = (await (await page.request.get(`/api/renders/${renderId}`)).json()) as { render: { outputAnalysis: { integratedLufs: number } } };
+  return body.render.outputAnalysis.integratedLufs;
+}
+
 async function sendFromRenderPage(page: Page, renderId: string, message: string) {
   await page.goto(`/releases/${releaseId}/tracks/${trackId}/renders/${renderId}`);
   await page.getByLabel(/Message to/).fill(message);
@@ -165,10 +174,22 @@ async function sendFromRenderPage(page: Page, renderId: string, message: string)
 }
 
 test("an engineer sends a render; the client comments, asks for changes, then approves the next", async ({ browser }, testInfo) => {
+  test.setTimeout(300_000);
   const seen = new Set<string>();
-  const first = await addFinishedRender(0.5, -14);
   const engineer = await newPage(browser, ENGINEER);
   const client = await newPage(browser, CLIENT);
+  const mixId = await trackWithMix(engineer);
+  const first = await renderPreview(engineer, "Gentle master");
+
+  // The engineer's compare page opens on the new render against its own mix, level-matched.
+  await engineer.goto(`/releases/${releaseId}/tracks/${trackId}/compare`);
+  const enginePlayer = engineer.getByTestId("ab-player");
+  await expect(enginePlayer).toHaveAttribute("data-state", "ready", { timeout: 30_000 });
+  await expect(engineer.locator("select[name=b]")).toHaveValue(`mix:${mixId}`);
+  await expect(engineer.getByTestId("legend-b-unprocessed")).toBeVisible();
+  await expect(engineer.getByRole("table", { name: "Analyses of A and B" }).locator("tr[data-measure='integratedLufs'] [data-difference]")).toContainText("LU");
+  await expect(enginePlayer).toHaveAttribute("data-loaded", "full");
+  await shot(engineer, "compare-page-render-against-mix", testInfo);
 
   await sendFromRenderPage(engineer, first, `First pass of ${trackTitle}.`);
   const firstLink = await reviewLinkFromMail(CLIENT, `First pass of ${trackTitle}.`, seen);
@@ -191,11 +212,11 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   await expect.poll(() => audio.evaluate((a: HTMLAudioElement) => a.currentTime), { timeout: 10_000 }).toBeGreaterThan(0);
   await audio.evaluate((a: HTMLAudioElement) => a.pause());
 
-  // A click halfway along the timeline picks about 2 s of the 4 s render.
+  // A click halfway along the timeline of the 1–5 s preview picks about 3 s on the mix's time axis.
   const timeline = client.getByTestId("review-timeline");
   const box = (await timeline.boundingBox())!;
   await timeline.click({ position: { x: box.width / 2, y: box.height / 2 } });
-  await expect(client.getByLabel(/^At/)).toHaveValue(/^0:0[12]/);
+  await expect(client.getByLabel(/^At/)).toHaveValue(/^0:0[23]/);
   await client.getByRole("textbox", { name: "Comment" }).fill("The swell here feels squeezed.");
   await client.getByRole("button", { name: "Add comment" }).click();
   await expect(client.locator("[data-comment]").filter({ hasText: "The swell here feels squeezed." })).toBeVisible();
@@ -209,8 +230,8 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   const marker = engineer.locator("[data-comment-marker]");
   await expect(marker).toHaveCount(1);
   const markerTimeS = Number(await marker.getAttribute("data-time-s"));
-  expect(markerTimeS).toBeGreaterThan(1);
-  expect(markerTimeS).toBeLessThan(3);
+  expect(markerTimeS).toBeGreaterThan(2);
+  expect(markerTimeS).toBeLessThan(4);
   const engineerAudio = engineer.getByTestId("review-audio");
   await expect.poll(() => engineerAudio.evaluate((a: HTMLAudioElement) => a.readyState), { timeout: 15_000 }).toBeGreaterThanOrEqual(1);
   await engineerAudio.evaluate((a: HTMLAudioElement) => {
@@ -220,22 +241,26 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   await expect.poll(() => engineerAudio.evaluate((a: HTMLAudioElement) => a.currentTime), { timeout: 10_000 }).toBeGreaterThanOrEqual(markerTimeS - 0.05);
   await engineerAudio.evaluate((a: HTMLAudioElement) => a.pause());
 
-  // "Renders again": a second finished render (quieter, as if the limiter eased off), sent with a note.
-  const second = await addFinishedRender(0.35, -17);
+  // Renders again, through another template, and sends that with a note.
+  const second = await renderPreview(engineer, "Open and loud");
   await sendFromRenderPage(engineer, second, `Second pass of ${trackTitle}.`);
   const secondLink = await reviewLinkFromMail(CLIENT, `Second pass of ${trackTitle}.`, seen);
 
-  // The client compares the two sent renders, level-matched, and switches A/B.
-  await client.goto(`/releases/${releaseId}/tracks/${trackId}/compare?a=${second}&b=${first}`);
+  // The client compares the two sent renders, level-matched by the worker's measurements, and switches A/B.
+  const [secondLufs, firstLufs] = [await outputLufs(engineer, second), await outputLufs(engineer, first)];
+  const differenceDb = secondLufs - firstLufs;
+  await client.goto(`/releases/${releaseId}/tracks/${trackId}/compare?a=render:${second}&b=render:${first}`);
   await expect(client.getByTestId("monitoring-reminder").first()).toBeVisible();
   const player = client.getByTestId("ab-player");
   await expect(player).toHaveAttribute("data-state", "ready", { timeout: 30_000 });
   await expect(player).toHaveAttribute("data-active-source", "A");
-  // Level matching: A (the second render, -17 LUFS stored) plays as it is; B (the first, -14 LUFS) is brought down 3 dB.
-  expect(Number(await player.getAttribute("data-match-gain-db"))).toBeCloseTo(0, 1);
+  // The louder of the two is turned down by the difference of integrated loudness; the quieter plays as it is.
+  await expect.poll(async () => Number(await player.getAttribute("data-match-gain-db")), { timeout: 10_000 }).toBeCloseTo(differenceDb > 0 ? -differenceDb : 0, 1);
   await player.getByRole("group", { name: "Source" }).getByRole("button").nth(1).click();
   await expect(player).toHaveAttribute("data-active-source", "B");
-  expect(Number(await player.getAttribute("data-match-gain-db"))).toBeCloseTo(-3, 1);
+  expect(Number(await player.getAttribute("data-match-gain-db"))).toBeCloseTo(differenceDb < 0 ? differenceDb : 0, 1);
+  // A client hears renders only: no mix among the sources.
+  await expect(client.locator("select[name=b] option[value^='mix:']")).toHaveCount(0);
   await shot(client, "compare-page-client", testInfo);
 
   await client.goto(secondLink);
@@ -247,4 +272,12 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
 
   await client.goto(`/releases/${releaseId}`);
   await expect(client.getByRole("row", { name: new RegExp(trackTitle) })).toContainText("Approved");
+});
+
+test("the owner finds the outbox in the navigation, with the review mail the fake server caught", async ({ browser }) => {
+  const owner = await newPage(browser, OWNER);
+  await owner.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Outbox" }).click();
+  await expect(owner.getByRole("heading", { level: 1, name: "Outbox" })).toBeVisible();
+  // The review requests of the flow above (this file's tests run in order, in one worker).
+  await expect(owner.getByRole("table", { name: "Outbox" }).locator("tr", { hasText: "review_request" }).filter({ hasText: "Review run" }).first()).toBeVisible();
 });
