@@ -8,6 +8,9 @@ import type { ReleaseBilling } from "./release-billing.server.ts";
 
 const money = (cents: number, currency: string) => `${formatCents(cents)} ${currency}`;
 
+// A figure cell: right-aligned in the table; at phone width a line of its own, its label (data-label) on the left.
+const FIGURE = "num text-right max-sm:flex max-sm:justify-between max-sm:border-0 max-sm:px-0 max-sm:py-0.5 max-sm:before:text-ink-soft max-sm:before:content-[attr(data-label)]";
+
 const STATE_LABEL = { draft: "Draft", sent: "Sent, awaiting payment", paid: "Paid", void: "Void" } as const;
 
 export function ReleaseBillingSection({ releaseId, billing }: { releaseId: string; billing: ReleaseBilling }) {
@@ -51,9 +54,10 @@ export function ReleaseBillingSection({ releaseId, billing }: { releaseId: strin
             <p className="mb-3 text-sm">
               {invoice.number ? <span className="num font-medium">{invoice.number}</span> : "Unnumbered draft"} · <strong>{STATE_LABEL[invoice.state]}</strong>
             </p>
-            <div className="overflow-x-auto">
-              <table className="data-table" aria-label="Invoice lines">
-                <thead>
+            {/* At phone width the lines stack: each row a block, each figure labelled from data-label. */}
+            <div className="sm:overflow-x-auto">
+              <table className="data-table max-sm:block" aria-label="Invoice lines">
+                <thead className="max-sm:sr-only">
                   <tr>
                     <th scope="col">Item</th>
                     <th scope="col" className="text-right">
@@ -67,22 +71,28 @@ export function ReleaseBillingSection({ releaseId, billing }: { releaseId: strin
                     </th>
                   </tr>
                 </thead>
-                <tbody>
+                <tbody className="max-sm:block">
                   {invoice.lines.map((l) => (
-                    <tr key={l.id}>
-                      <td>{l.description}</td>
-                      <td className="num text-right">{l.quantity}</td>
-                      <td className="num whitespace-nowrap text-right">{money(l.unitCents, invoice.currency)}</td>
-                      <td className="num whitespace-nowrap text-right">{money(l.amountCents, invoice.currency)}</td>
+                    <tr key={l.id} className="max-sm:block max-sm:border-b max-sm:border-rule/70 max-sm:py-2">
+                      <td className="max-sm:block max-sm:border-0 max-sm:px-0 max-sm:py-0.5 max-sm:font-medium">{l.description}</td>
+                      <td data-label="Qty" className={`${FIGURE} whitespace-nowrap`}>
+                        {l.quantity}
+                      </td>
+                      <td data-label="Unit" className={`${FIGURE} whitespace-nowrap`}>
+                        {money(l.unitCents, invoice.currency)}
+                      </td>
+                      <td data-label="Amount" className={`${FIGURE} whitespace-nowrap`}>
+                        {money(l.amountCents, invoice.currency)}
+                      </td>
                     </tr>
                   ))}
                 </tbody>
-                <tfoot>
-                  <tr>
-                    <th scope="row" colSpan={3} className="text-right">
+                <tfoot className="max-sm:block">
+                  <tr className="max-sm:flex max-sm:justify-between max-sm:pt-2">
+                    <th scope="row" colSpan={3} className="text-right max-sm:border-0 max-sm:px-0">
                       Total
                     </th>
-                    <td className="num whitespace-nowrap text-right font-semibold" data-invoice-total>
+                    <td className="num whitespace-nowrap text-right font-semibold max-sm:border-0 max-sm:px-0" data-invoice-total>
                       {money(invoice.totalCents, invoice.currency)}
                     </td>
                   </tr>

@@ -2,10 +2,12 @@
 // the local payments fake: the owner sets the studio's rates, makes the
 // release's deliveries (the worker runs each through its format), builds and
 // sends the invoice; the client finds the finals locked, pays on the fake
-// checkout, comes back to a paid invoice and downloads the release's zip.
+// checkout (the invoice checked and photographed at phone width, 375 px, on
+// the way: tests/artifacts/invoice-phone-375.png), comes back to a paid
+// invoice and downloads the release's zip.
 // The release, its track and a finished print (a synthesized sine), sent for
 // review and approved, are written straight to the database and storage in setup.
-import { mkdtempSync, readFileSync, rmSync } from "node:fs";
+import { mkdirSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { randomUUID } from "node:crypto";
@@ -18,6 +20,7 @@ import { storage } from "../../app/lib/storage/storage.server.ts";
 const PASSWORD = "tidemark-demo";
 const OWNER = "owner@lanternquay.test";
 const CLIENT = "mirelle@quane.test";
+const ARTIFACTS = path.resolve("tests/artifacts");
 const PAYMENTS = `${process.env.STRIPE_API_PROTOCOL ?? "http"}://${process.env.STRIPE_API_HOST ?? "127.0.0.1"}:${process.env.STRIPE_API_PORT ?? "12121"}`;
 
 async function signIn(page: Page, email: string) {
@@ -29,6 +32,7 @@ async function signIn(page: Page, email: string) {
 }
 
 let releaseId: string;
+let printPage: string;
 let tmp: string;
 const title = `Harbour lights ${randomUUID().slice(0, 6)}`;
 
@@ -65,6 +69,7 @@ test.beforeAll(async () => {
     const clientUser = await db("users").where({ email: CLIENT }).first("id");
     await db("review_requests").insert({ track_id: track.id, render_id: print.id, sent_by: engineer.id, created_at: new Date(Date.now() - 30_000) });
     await db("review_events").insert({ track_id: track.id, render_id: print.id, kind: "approve", user_id: clientUser.id, created_at: new Date(Date.now() - 10_000) });
+    printPage = `/releases/${releaseId}/tracks/${track.id}/renders/${print.id}`;
   } finally {
     await db.destroy();
   }
@@ -116,7 +121,31 @@ test("owner bills the release, the client pays and downloads the finals", async 
   await signIn(client, CLIENT);
   await client.goto(`/releases/${releaseId}`);
   await expect(client.getByText("The final files unlock once the invoice is paid.")).toBeVisible();
+
+  // At phone width the invoice's lines stack, each figure labelled, and nothing scrolls sideways.
+  await client.setViewportSize({ width: 375, height: 812 });
+  const invoiceCard = client.locator("[data-invoice-state=sent]");
+  await invoiceCard.scrollIntoViewIfNeeded();
+  const widths = await invoiceCard.evaluate((card) => {
+    const table = card.querySelector("table")!;
+    return { page: document.documentElement.scrollWidth, card: card.scrollWidth, cardClient: card.clientWidth, table: table.getBoundingClientRect().width, wrapper: table.parentElement!.scrollWidth - table.parentElement!.clientWidth };
+  });
+  expect(widths.page).toBeLessThanOrEqual(375);
+  expect(widths.card).toBeLessThanOrEqual(widths.cardClient);
+  expect(widths.wrapper).toBe(0);
+  const firstLine = invoiceCard.locator("tbody tr").first();
+  // Stacked: the amount sits below the item, not beside it.
+  const [itemBox, amountBox] = await Promise.all([firstLine.locator("td").first().boundingBox(), firstLine.locator("td[data-label=Amount]").boundingBox()]);
+  expect(amountBox!.y).toBeGreaterThan(itemBox!.y + itemBox!.height - 1);
+  mkdirSync(ARTIFACTS, { recursive: true });
+  await invoiceCard.screenshot({ path: path.join(ARTIFACTS, "invoice-phone-375.png") });
+  await client.setViewportSize({ width: 1280, height: 800 });
   expect((await client.request.get(`/releases/${releaseId}/package.zip`)).status()).toBe(403);
+  // The approved print: the client may listen on its page, its file waits for the payment.
+  await client.goto(printPage);
+  await expect(client.getByTestId("download-locked")).toHaveText("The final files unlock once the invoice is paid.");
+  expect((await client.request.get(`${printPage}/download`)).status()).toBe(403);
+  await client.goto(`/releases/${releaseId}`);
 
   await client.getByRole("button", { name: "Pay 320.00 EUR" }).click();
   await expect(client.getByRole("heading", { name: "Local test payment" })).toBeVisible();
@@ -126,6 +155,11 @@ test("owner bills the release, the client pays and downloads the finals", async 
     await client.reload();
     await expect(client.locator("[data-invoice-state=paid]")).toBeVisible({ timeout: 1_000 });
   }).toPass({ timeout: 20_000 });
+
+  await client.goto(printPage);
+  await expect(client.getByRole("link", { name: "Download print (WAV)" })).toBeVisible();
+  expect((await client.request.get(`${printPage}/download`)).status()).toBe(200);
+  await client.goto(`/releases/${releaseId}`);
 
   const downloadPromise = client.waitForEvent("download");
   await client.getByRole("link", { name: "Download all finals (zip)" }).click();
