@@ -1,17 +1,18 @@
 // EQ stage: RBJ-cookbook biquads in series, each on stereo (both channels),
-// mid, side, left or right. Mid/side bands convert in place around the band
-// (M = (L+R)/2, S = (L−R)/2) and back. On mono input, stereo/mid/left bands
-// act on the one channel; side and right bands have nothing to act on and
-// are skipped.
+// mid, side, left or right. Mid/side bands convert around the band
+// (M = (L+R)/2, S = (L−R)/2, the matrix of dsp/filters/mid-side.ts) and back,
+// in the band's own loop. On mono input, stereo/mid/left bands act on the
+// one channel; side and right bands have nothing to act on and are skipped.
+// Each band is one pass over the block with both channels in one loop
+// (PairedBiquad), which costs about half of one loop per channel.
 
 import { designBiquad } from "../filters/biquad-design.ts";
-import { Biquad } from "../filters/biquad.ts";
-import { fromMidSide, toMidSide } from "../filters/mid-side.ts";
+import { PairedBiquad } from "../filters/paired-biquad.ts";
 import type { Planar, Processor } from "../processor.ts";
 import type { EqBand } from "./schema.ts";
 
 interface BandRunner {
-  filter: Biquad;
+  filter: PairedBiquad;
   channel: EqBand["channel"];
 }
 
@@ -26,7 +27,7 @@ export class EqStage implements Processor {
       if (channels === 1 && (band.channel === "side" || band.channel === "right")) continue;
       const coeffs = designBiquad(band.shape, { freqHz: band.freqHz, q: band.q, gainDb: band.gainDb }, sampleRate);
       const perChannel = band.channel === "stereo" ? channels : 1;
-      this.runners.push({ filter: new Biquad(coeffs, perChannel), channel: channels === 1 ? "stereo" : band.channel });
+      this.runners.push({ filter: new PairedBiquad(coeffs, perChannel), channel: channels === 1 ? "stereo" : band.channel });
     }
   }
 
@@ -41,16 +42,14 @@ export class EqStage implements Processor {
           filter.process(channels, frames);
           break;
         case "left":
-          filter.processChannel(channels[0], 0, frames);
+          filter.processChannel(channels[0], frames);
           break;
         case "right":
-          filter.processChannel(channels[1], 0, frames);
+          filter.processChannel(channels[1], frames);
           break;
         case "mid":
         case "side":
-          toMidSide(channels[0], channels[1], frames);
-          filter.processChannel(channels[channel === "mid" ? 0 : 1], 0, frames);
-          fromMidSide(channels[0], channels[1], frames);
+          filter.processMidSide(channels[0], channels[1], frames, channel === "side");
           break;
       }
     }
