@@ -4,13 +4,23 @@
 // LR4 = two cascaded 2nd-order Butterworth sections (Q = 1/√2). Low + high of
 // one LR4 crossover is the 2nd-order all-pass at the same frequency with
 // Q = 1/√2 (analogue: (1+s⁴)/B(s)² = (s²−√2s+1)/(s²+√2s+1); the bilinear
-// transform keeps the identity). The tree splits at the lowest crossover, then
-// splits the upper part again; each lower band passes through the all-passes
-// of the later crossovers, so every band carries the same phase and the sum of
-// the bands is the product of all the crossovers' all-passes: flat magnitude.
+// transform keeps the identity, and the cookbook designs share one
+// prewarped frequency). So a split computes low = LP²(x) and the all-pass
+// A(x), and high = A(x) − low: three sections per sample instead of four.
+//
+// The bands must all carry the same phase, so that they sum to an all-pass:
+// every band passes through the all-pass of each crossover that did not
+// split it. The splitter is a balanced tree: it splits at the middle
+// crossover first, then gives the lower half the all-passes of the upper
+// half's crossovers (and the reverse) before splitting each half again.
+// With 90 / 1000 / 3000 Hz: split at 1 kHz; low half through A(3 kHz) and
+// split at 90 Hz; high half through A(90 Hz) and split at 3 kHz — 3 splits
+// and 2 all-passes per channel (a chain of splits from the bottom needs 3).
+// The sum of the bands is the product of all the crossovers' all-passes:
+// flat magnitude. Two channels run in one loop (see paired-biquad.ts).
 
-import { Biquad } from "./biquad.ts";
-import { BUTTERWORTH_Q, type BiquadCoeffs, designBiquad } from "./biquad-design.ts";
+import { type BiquadCoeffs, BUTTERWORTH_Q, designBiquad } from "./biquad-design.ts";
+import { FLUSH_INTERVAL_FRAMES, flushPairs, PairedBiquad } from "./paired-biquad.ts";
 
 export interface LinkwitzRileyCoeffs {
   /** One Butterworth section; LR4 runs it twice. */
@@ -29,75 +39,119 @@ export function designLinkwitzRiley4(crossoverHz: number, sampleRate: number): L
   };
 }
 
-interface Stage {
-  split: Lr4Split;
-  allPass: Biquad[]; // one per lower band, acting on bands[0..k)
-}
-
-// State below this is flushed (as in Biquad) so silence never turns subnormal.
-const FLUSH_BELOW = 1e-30;
-
 /**
- * One LR4 crossover: low = LP², high = HP², both computed in one pass over the
- * input (four TDF-II sections per sample), per-channel state.
+ * One LR4 crossover on a pair of channels (or one): low = LP²(x) into
+ * `low`, x becomes high = A(x) − low (in place). The Butterworth low-pass is
+ * g·(1 + z⁻¹)²/D(z) and the all-pass (a2 + a1 z⁻¹ + z⁻²)/D(z) with the same
+ * D(z) = 1 + a1 z⁻¹ + a2 z⁻²; both sections' gain g² is applied to the input
+ * once. Transposed direct form II, float64; state per channel: LP, LP, A.
  */
 class Lr4Split {
-  private readonly c: Float64Array; // LP b0 b1 b2 a1 a2, HP b0 b1 b2 a1 a2
-  private readonly state: Float64Array; // per channel: 4 sections × 2
+  private readonly gain2: number;
+  private readonly a1: number;
+  private readonly a2: number;
+  private readonly state: Float64Array; // per channel: 3 sections × (s1, s2)
+  private untilFlush = FLUSH_INTERVAL_FRAMES;
 
-  constructor(coeffs: LinkwitzRileyCoeffs, channels: number) {
-    const { lowPass: l, highPass: h } = coeffs;
-    this.c = Float64Array.from([l.b0, l.b1, l.b2, l.a1, l.a2, h.b0, h.b1, h.b2, h.a1, h.a2]);
-    this.state = new Float64Array(8 * channels);
+  constructor(coeffs: LinkwitzRileyCoeffs, private readonly channels: number) {
+    const { lowPass: l, allPass: a } = coeffs;
+    // The cookbook low-pass and all-pass share a1, a2 exactly (same formulas).
+    this.gain2 = l.b0 * l.b0;
+    this.a1 = a.a1;
+    this.a2 = a.a2;
+    this.state = new Float64Array(6 * channels);
   }
 
   reset(): void {
     this.state.fill(0);
+    this.untilFlush = FLUSH_INTERVAL_FRAMES;
   }
 
-  /** low[i] = LR4 low of x[i]; x becomes the LR4 high (in place). */
-  run(x: Float64Array, low: Float64Array, ch: number, frames: number): void {
-    const c = this.c;
-    const lb0 = c[0], lb1 = c[1], lb2 = c[2], la1 = c[3], la2 = c[4];
-    const hb0 = c[5], hb1 = c[6], hb2 = c[7], ha1 = c[8], ha2 = c[9];
-    const st = this.state;
-    const o = 8 * ch;
-    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3];
-    let r1 = st[o + 4], r2 = st[o + 5], t1 = st[o + 6], t2 = st[o + 7];
-    for (let i = 0; i < frames; i++) {
-      const v = x[i];
-      const l1 = lb0 * v + p1;
-      p1 = lb1 * v - la1 * l1 + p2;
-      p2 = lb2 * v - la2 * l1;
-      const l2 = lb0 * l1 + q1;
-      q1 = lb1 * l1 - la1 * l2 + q2;
-      q2 = lb2 * l1 - la2 * l2;
-      const h1 = hb0 * v + r1;
-      r1 = hb1 * v - ha1 * h1 + r2;
-      r2 = hb2 * v - ha2 * h1;
-      const h2 = hb0 * h1 + t1;
-      t1 = hb1 * h1 - ha1 * h2 + t2;
-      t2 = hb2 * h1 - ha2 * h2;
-      if (Math.abs(p1) + Math.abs(p2) + Math.abs(q1) + Math.abs(q2) < FLUSH_BELOW) {
-        p1 *= 0; p2 *= 0; q1 *= 0; q2 *= 0;
+  run(x: Float64Array[], low: Float64Array[], frames: number): void {
+    let start = 0;
+    while (start < frames) {
+      const end = Math.min(frames, start + this.untilFlush);
+      let c = 0;
+      for (; c + 1 < this.channels; c += 2) this.pair(x[c], x[c + 1], low[c], low[c + 1], 6 * c, start, end);
+      if (c < this.channels) this.one(x[c], low[c], 6 * c, start, end);
+      this.untilFlush -= end - start;
+      if (this.untilFlush === 0) {
+        this.untilFlush = FLUSH_INTERVAL_FRAMES;
+        flushPairs(this.state);
       }
-      if (Math.abs(r1) + Math.abs(r2) + Math.abs(t1) + Math.abs(t2) < FLUSH_BELOW) {
-        r1 *= 0; r2 *= 0; t1 *= 0; t2 *= 0;
-      }
-      low[i] = l2;
-      x[i] = h2;
+      start = end;
     }
-    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2;
-    st[o + 4] = r1; st[o + 5] = r2; st[o + 6] = t1; st[o + 7] = t2;
+  }
+
+  private pair(xa: Float64Array, xb: Float64Array, la: Float64Array, lb: Float64Array, o: number, start: number, end: number): void {
+    const g = this.gain2, a1 = this.a1, a2 = this.a2;
+    const st = this.state;
+    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3], r1 = st[o + 4], r2 = st[o + 5];
+    let u1 = st[o + 6], u2 = st[o + 7], v1 = st[o + 8], v2 = st[o + 9], w1 = st[o + 10], w2 = st[o + 11];
+    for (let i = start; i < end; i++) {
+      const x = xa[i], y = xb[i];
+      const gx = g * x, gy = g * y;
+      const lx1 = gx + p1;
+      p1 = gx + gx - a1 * lx1 + p2;
+      p2 = gx - a2 * lx1;
+      const ly1 = gy + u1;
+      u1 = gy + gy - a1 * ly1 + u2;
+      u2 = gy - a2 * ly1;
+      const lx2 = lx1 + q1;
+      q1 = lx1 + lx1 - a1 * lx2 + q2;
+      q2 = lx1 - a2 * lx2;
+      const ly2 = ly1 + v1;
+      v1 = ly1 + ly1 - a1 * ly2 + v2;
+      v2 = ly1 - a2 * ly2;
+      const ax = a2 * x + r1;
+      r1 = a1 * (x - ax) + r2;
+      r2 = x - a2 * ax;
+      const ay = a2 * y + w1;
+      w1 = a1 * (y - ay) + w2;
+      w2 = y - a2 * ay;
+      la[i] = lx2;
+      lb[i] = ly2;
+      xa[i] = ax - lx2;
+      xb[i] = ay - ly2;
+    }
+    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2; st[o + 4] = r1; st[o + 5] = r2;
+    st[o + 6] = u1; st[o + 7] = u2; st[o + 8] = v1; st[o + 9] = v2; st[o + 10] = w1; st[o + 11] = w2;
+  }
+
+  private one(xa: Float64Array, la: Float64Array, o: number, start: number, end: number): void {
+    const g = this.gain2, a1 = this.a1, a2 = this.a2;
+    const st = this.state;
+    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3], r1 = st[o + 4], r2 = st[o + 5];
+    for (let i = start; i < end; i++) {
+      const x = xa[i];
+      const gx = g * x;
+      const lx1 = gx + p1;
+      p1 = gx + gx - a1 * lx1 + p2;
+      p2 = gx - a2 * lx1;
+      const lx2 = lx1 + q1;
+      q1 = lx1 + lx1 - a1 * lx2 + q2;
+      q2 = lx1 - a2 * lx2;
+      const ax = a2 * x + r1;
+      r1 = a1 * (x - ax) + r2;
+      r2 = x - a2 * ax;
+      la[i] = lx2;
+      xa[i] = ax - lx2;
+    }
+    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2; st[o + 4] = r1; st[o + 5] = r2;
   }
 }
+
+/** One step of the splitter's plan: split `band`'s buffer at a crossover, or pass a band through an all-pass. */
+type Step =
+  | { kind: "split"; split: Lr4Split; /** buffer split in place (becomes high) */ band: number; /** buffer that receives low */ low: number }
+  | { kind: "allPass"; filter: PairedBiquad; band: number };
 
 export class BandSplitter {
   readonly bandCount: number;
   /** bands[b][ch]: band b of channel ch, valid in [0, frames) after split(). */
   readonly bands: Float64Array[][];
   readonly latencyFrames = 0;
-  private readonly stages: Stage[];
+  private readonly steps: Step[] = [];
   private readonly channels: number;
   private readonly maxBlockFrames: number;
 
@@ -117,35 +171,32 @@ export class BandSplitter {
     for (let b = 0; b < this.bandCount; b++) {
       this.bands.push(Array.from({ length: channels }, () => new Float64Array(maxBlockFrames)));
     }
-    this.stages = crossoversHz.map((f, k) => {
-      const c = designLinkwitzRiley4(f, sampleRate);
-      return {
-        split: new Lr4Split(c, channels),
-        allPass: Array.from({ length: k }, () => new Biquad(c.allPass, channels)),
-      };
-    });
+    const coeffs = crossoversHz.map((f) => designLinkwitzRiley4(f, sampleRate));
+    // Node over crossovers [lo, hi): its signal is in the buffer of its top band (hi).
+    const plan = (lo: number, hi: number): void => {
+      if (lo >= hi) return;
+      const m = (lo + hi) >> 1;
+      this.steps.push({ kind: "split", split: new Lr4Split(coeffs[m], channels), band: hi, low: m });
+      for (let k = m + 1; k < hi; k++) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: m });
+      for (let k = lo; k < m; k++) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: hi });
+      plan(lo, m);
+      plan(m + 1, hi);
+    };
+    plan(0, crossoversHz.length);
   }
 
   /** Splits `frames` frames of `input` (not modified) into `bands`. */
   split(input: Float64Array[], frames: number): void {
     if (frames > this.maxBlockFrames) throw new RangeError(`block of ${frames} frames exceeds maxBlockFrames ${this.maxBlockFrames}`);
-    const top = this.bandCount - 1;
-    for (let ch = 0; ch < this.channels; ch++) {
-      // The top band buffer holds "everything above the crossovers so far".
-      const rest = this.bands[top][ch];
-      rest.set(input[ch].subarray(0, frames));
-      for (let k = 0; k < this.stages.length; k++) {
-        const stage = this.stages[k];
-        stage.split.run(rest, this.bands[k][ch], ch, frames);
-        for (let b = 0; b < k; b++) stage.allPass[b].processChannel(this.bands[b][ch], ch, frames);
-      }
+    const top = this.bands[this.bandCount - 1];
+    for (let ch = 0; ch < this.channels; ch++) top[ch].set(input[ch].subarray(0, frames));
+    for (const step of this.steps) {
+      if (step.kind === "split") step.split.run(this.bands[step.band], this.bands[step.low], frames);
+      else step.filter.process(this.bands[step.band], frames);
     }
   }
 
   reset(): void {
-    for (const s of this.stages) {
-      s.split.reset();
-      for (const f of s.allPass) f.reset();
-    }
+    for (const step of this.steps) (step.kind === "split" ? step.split : step.filter).reset();
   }
 }
