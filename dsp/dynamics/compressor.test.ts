@@ -3,6 +3,7 @@ import { Compressor, type CompressorSettings } from "./compressor.ts";
 import { gainReductionDb } from "./gain-computer.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
+import { whiteNoise } from "../../bench/signals.ts";
 import { sine } from "./dynamics.test-util.ts";
 
 const FS = 48000;
@@ -153,6 +154,49 @@ describe("auto release on bus compression (our design target: no pumping)", () =
     expect(Math.abs(auto.mean - 4)).toBeLessThan(0.05);
     expect(Math.abs(fixed.mean - 4)).toBeLessThan(0.05);
     expect(auto.range).toBeLessThan(fixed.range / 2);
+  });
+});
+
+describe("the compressor's block path (reference: RmsDetector → gainReductionDb → GainSmoother, composed here frame by frame)", () => {
+  // Noise whose level steps between −40 and −5 dBFS, so the path crosses the knee, attacks and releases.
+  function steppedNoise(frames: number, seed: number, scale: number): Float64Array {
+    const x = whiteNoise(frames, seed);
+    for (let i = 0; i < frames; i++) x[i] *= scale * 10 ** (-(((i / 4800) | 0) % 8) * 5 / 20) * 0.56;
+    return x;
+  }
+
+  it.each([
+    ["fixed release, hard knee", { releaseMs: 80, kneeDb: 0 }],
+    ["auto release, 6 dB knee", { releaseMs: "auto" as const, kneeDb: 6 }],
+  ])("stereo and mono, %s: reduction within 1e-12 dB, gain within 1e-12 (relative) of the composed reference", (_name, over) => {
+    const s = settings({ thresholdDb: -24, ratio: 3, attackMs: 10, makeupDb: 2, rmsWindowMs: 20, ...over });
+    const frames = 48000;
+    for (const channels of [1, 2]) {
+      const input = [steppedNoise(frames, 31, 1), steppedNoise(frames, 32, 0.7)].slice(0, channels);
+      // Reference, one frame at a time.
+      const power = new Float64Array(frames);
+      new RmsDetector(FS, channels, s.rmsWindowMs).process(input, frames, power);
+      const smoother = new GainSmoother(FS, s.attackMs, s.releaseMs);
+      const refGr = power.map((p) => smoother.next(gainReductionDb(10 * Math.log10(p), s.thresholdDb, s.ratio, s.kneeDb)));
+      // The compressor in blocks of 480.
+      const comp = new Compressor(FS, channels, s, 480);
+      const gr = new Float64Array(frames);
+      const out = input.map((x) => x.slice());
+      const detectOnly = new Compressor(FS, channels, s, 480);
+      for (let off = 0; off < frames; off += 480) {
+        detectOnly.detect(input.map((x) => x.subarray(off, off + 480)), 480, gr.subarray(off, off + 480));
+        comp.process(out.map((x) => x.subarray(off, off + 480)), 480);
+      }
+      let worstDb = 0, worstGain = 0;
+      for (let i = 0; i < frames; i++) {
+        worstDb = Math.max(worstDb, Math.abs(gr[i] - refGr[i]));
+        const g = 10 ** ((s.makeupDb - refGr[i]) / 20);
+        for (let c = 0; c < channels; c++) if (input[c][i] !== 0) worstGain = Math.max(worstGain, Math.abs(out[c][i] / input[c][i] / g - 1));
+      }
+      expect(Math.max(...refGr)).toBeGreaterThan(5);
+      expect(worstDb).toBeLessThan(1e-12);
+      expect(worstGain).toBeLessThan(1e-12);
+    }
   });
 });
 

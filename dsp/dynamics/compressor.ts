@@ -4,9 +4,16 @@
 // mean squares) → static curve with soft knee → attack/release smoothing in
 // dB (or the program-dependent "auto" release) → makeup. The same gain is
 // applied to every channel, so the stereo image does not shift.
+// Speed: each step is one tight loop over the block (sidechain filter with
+// both channels in one loop, detector, static curve, smoothing, then gain
+// and audio for both channels in one loop); the level (dB) and the gain use
+// fastLog2 / fastExp2 (dsp/fast-math.ts, errors below 1e-12 dB), the
+// per-frame logarithm and exponential having been most of the cost. (One
+// loop for detector and static curve together measured slower in V8.)
 
 import { designBiquad, BUTTERWORTH_Q } from "../filters/biquad-design.ts";
-import { Biquad } from "../filters/biquad.ts";
+import { PairedBiquad } from "../filters/paired-biquad.ts";
+import { fastExp2, fastLog2 } from "../fast-math.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
@@ -23,18 +30,21 @@ export interface CompressorSettings {
   sidechainHighPassHz?: number | null;
 }
 
-// ln(10)/10 and ln(10)/20: dB conversions through Math.log/Math.exp, which
-// are cheaper per frame than log10/pow.
-const POWER_TO_DB = 10 / Math.LN10;
-const DB_TO_GAIN = Math.LN10 / 20;
-const TINY_POWER = 1e-30;
+// 10·log10(2): log2 of a power → dB; log2(10)/20: gain dB → log2 of the gain.
+const LOG2_POWER_TO_DB = 10 * Math.log10(2);
+const DB_TO_LOG2_GAIN = Math.log2(10) / 20;
+
+// What run() does with the gain.
+const DETECT = 0; // write the reduction (dB) per frame, leave the audio
+const SCALE = 1; // out = in · gain
+const ADD = 2; // out += in · gain
 
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
   readonly traceNames: readonly string[] = ["gr"];
   private readonly detector: RmsDetector;
   private readonly smoother: GainSmoother;
-  private readonly sidechain: Biquad | null;
+  private readonly sidechain: PairedBiquad | null;
   private readonly sideBuffers: Float64Array[];
   private readonly power: Float64Array;
   private readonly gain: Float64Array;
@@ -55,7 +65,7 @@ export class Compressor implements Processor, GainReductionSource {
     this.detector = new RmsDetector(sampleRate, channels, settings.rmsWindowMs);
     this.smoother = new GainSmoother(sampleRate, settings.attackMs, settings.releaseMs);
     const hp = settings.sidechainHighPassHz;
-    this.sidechain = hp ? new Biquad(designBiquad("highPass", { freqHz: hp, q: BUTTERWORTH_Q }, sampleRate), channels) : null;
+    this.sidechain = hp ? new PairedBiquad(designBiquad("highPass", { freqHz: hp, q: BUTTERWORTH_Q }, sampleRate), channels) : null;
     this.sideBuffers = this.sidechain ? Array.from({ length: channels }, () => new Float64Array(maxBlockFrames)) : [];
     this.power = new Float64Array(maxBlockFrames);
     this.gain = new Float64Array(maxBlockFrames);
@@ -63,8 +73,10 @@ export class Compressor implements Processor, GainReductionSource {
     this.slope = 1 - 1 / settings.ratio;
     this.knee = settings.kneeDb;
     this.makeupDb = settings.makeupDb;
-    this.makeupGain = Math.exp(this.makeupDb * DB_TO_GAIN);
-    this.kneeStartPower = Math.exp((this.threshold - this.knee / 2) / POWER_TO_DB);
+    this.makeupGain = 10 ** (this.makeupDb / 20);
+    // Below this power the target is 0 and the logarithm is skipped. At least
+    // the smallest normal double: fastLog2 needs a normal number.
+    this.kneeStartPower = Math.max(10 ** ((this.threshold - this.knee / 2) / 10), 2 ** -1022);
   }
 
   reset(): void {
@@ -76,68 +88,94 @@ export class Compressor implements Processor, GainReductionSource {
 
   /** Gain reduction (dB, ≥ 0) per frame into `outDb`, no audio change. */
   detect(channels: Planar, frames: number, outDb: Float64Array): void {
-    let detectIn = channels;
-    if (this.sidechain) {
-      for (let c = 0; c < this.channels; c++) this.sideBuffers[c].set(channels[c].subarray(0, frames));
-      this.sidechain.process(this.sideBuffers, frames);
-      detectIn = this.sideBuffers;
-    }
-    const power = this.power;
-    this.detector.process(detectIn, frames, power);
-    const t = this.threshold, slope = this.slope, w = this.knee, hw = w / 2;
-    const smoother = this.smoother;
-    const kneeStartPower = this.kneeStartPower;
-    let maxGr = this.maxReductionDb;
-    for (let i = 0; i < frames; i++) {
-      // Inlined gainReductionDb() (gain-computer.ts) for speed; below the
-      // knee the target is 0 and the logarithm is skipped.
-      const p = power[i];
-      let target = 0;
-      const over = p > kneeStartPower ? Math.log(p + TINY_POWER) * POWER_TO_DB - t : -Infinity;
-      if (over > -hw) {
-        if (over < hw) {
-          const x = over + hw;
-          target = (slope * x * x) / (2 * w);
-        } else target = over * slope;
-      }
-      const gr = smoother.next(target);
-      outDb[i] = gr;
-      if (gr > maxGr) maxGr = gr;
-    }
-    this.maxReductionDb = maxGr;
+    this.run(channels, channels, frames, DETECT, outDb);
   }
 
-  /** Linear gain (makeup included) per frame into this.gain. */
-  private computeGain(channels: Planar, frames: number): Float64Array {
+  process(channels: Planar, frames: number): void {
+    this.run(channels, channels, frames, SCALE, this.gain);
+  }
+
+  /** Compresses `input` and adds the result to `out` (multiband summing); `input` is left as is. */
+  processAdd(input: Planar, out: Planar, frames: number): void {
+    this.run(input, out, frames, ADD, this.gain);
+  }
+
+  private run(input: Planar, out: Planar, frames: number, mode: number, grDb: Float64Array): void {
+    let detectIn = input;
+    if (this.sidechain) {
+      this.sidechain.processInto(input, this.sideBuffers, frames);
+      detectIn = this.sideBuffers;
+    }
+    this.detector.process(detectIn, frames, this.power);
+    this.reductionFromPower(this.power, frames, grDb);
+    if (mode === DETECT) return;
+    if (this.channels === 2) {
+      this.applyStereo(grDb, input, out, frames, mode);
+      return;
+    }
     const gain = this.gain;
-    this.detect(channels, frames, gain);
+    this.toLinearGain(gain, frames);
+    for (let c = 0; c < this.channels; c++) {
+      const x = input[c], y = out[c];
+      if (mode === ADD) for (let i = 0; i < frames; i++) y[i] += x[i] * gain[i];
+      else for (let i = 0; i < frames; i++) y[i] = x[i] * gain[i];
+    }
+  }
+
+  /** Reduction (dB) → gain with makeup → both channels, one loop. */
+  private applyStereo(grDb: Float64Array, input: Planar, out: Planar, frames: number, mode: number): void {
+    const xl = input[0], xr = input[1], yl = out[0], yr = out[1];
+    const makeup = this.makeupDb, makeupGain = this.makeupGain;
+    let lastGr = 0, g = makeupGain;
+    for (let i = 0; i < frames; i++) {
+      const gr = grDb[i];
+      if (gr !== lastGr) {
+        lastGr = gr;
+        g = gr === 0 ? makeupGain : fastExp2((makeup - gr) * DB_TO_LOG2_GAIN);
+      }
+      if (mode === ADD) {
+        yl[i] += xl[i] * g;
+        yr[i] += xr[i] * g;
+      } else {
+        yl[i] = xl[i] * g;
+        yr[i] = xr[i] * g;
+      }
+    }
+  }
+
+  /** Static curve and smoothing for a block of detected power: reduction (dB) per frame into `out`. */
+  private reductionFromPower(power: Float64Array, frames: number, out: Float64Array): void {
+    const t = this.threshold, slope = this.slope, hw = this.knee / 2, kneeScale = this.slope / (2 * this.knee);
+    const kneeStartPower = this.kneeStartPower;
+    for (let i = 0; i < frames; i++) {
+      const p = power[i];
+      let target = 0;
+      if (p > kneeStartPower) {
+        const over = fastLog2(p) * LOG2_POWER_TO_DB - t;
+        if (over > -hw) {
+          if (over < hw) {
+            const k = over + hw;
+            target = kneeScale * k * k;
+          } else target = over * slope;
+        }
+      }
+      out[i] = target;
+    }
+    const maxGr = this.smoother.process(out, out, frames);
+    if (maxGr > this.maxReductionDb) this.maxReductionDb = maxGr;
+  }
+
+  /** Reduction (dB) → linear gain with makeup, in place. */
+  private toLinearGain(gain: Float64Array, frames: number): void {
     const makeup = this.makeupDb, makeupGain = this.makeupGain;
     let lastGr = 0, lastGain = makeupGain;
     for (let i = 0; i < frames; i++) {
       const gr = gain[i];
       if (gr !== lastGr) {
         lastGr = gr;
-        lastGain = gr === 0 ? makeupGain : Math.exp((makeup - gr) * DB_TO_GAIN);
+        lastGain = gr === 0 ? makeupGain : fastExp2((makeup - gr) * DB_TO_LOG2_GAIN);
       }
       gain[i] = lastGain;
-    }
-    return gain;
-  }
-
-  process(channels: Planar, frames: number): void {
-    const gain = this.computeGain(channels, frames);
-    for (let c = 0; c < this.channels; c++) {
-      const x = channels[c];
-      for (let i = 0; i < frames; i++) x[i] *= gain[i];
-    }
-  }
-
-  /** Compresses `input` and adds the result to `out` (multiband summing); `input` is left as is. */
-  processAdd(input: Planar, out: Planar, frames: number): void {
-    const gain = this.computeGain(input, frames);
-    for (let c = 0; c < this.channels; c++) {
-      const x = input[c], y = out[c];
-      for (let i = 0; i < frames; i++) y[i] += x[i] * gain[i];
     }
   }
 

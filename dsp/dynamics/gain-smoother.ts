@@ -22,20 +22,24 @@ export const AUTO_SLOW_RELEASE_MS = 2500;
 const FLUSH_BELOW_DB = 1e-9;
 
 export class GainSmoother {
-  private readonly attack: number;
-  private readonly release: number;
-  private readonly auto: boolean;
-  private readonly slowAttack: number;
-  private readonly slowRelease: number;
+  private readonly attackCoeff: number;
+  private readonly releaseCoeff: number;
+  /** The slow envelope's coefficients; 1 and 1 (frozen at 0) unless releaseMs is "auto". */
+  private readonly slowAttackCoeff: number;
+  private readonly slowReleaseCoeff: number;
   private fastDb = 0;
   private slowDb = 0;
+  private readonly one = new Float64Array(1);
 
   constructor(sampleRate: number, attackMs: number, releaseMs: number | "auto") {
-    this.attack = timeConstantCoeff(attackMs, sampleRate);
-    this.auto = releaseMs === "auto";
-    this.release = timeConstantCoeff(this.auto ? AUTO_FAST_RELEASE_MS : (releaseMs as number), sampleRate);
-    this.slowAttack = timeConstantCoeff(AUTO_SLOW_ATTACK_MS, sampleRate);
-    this.slowRelease = timeConstantCoeff(AUTO_SLOW_RELEASE_MS, sampleRate);
+    const auto = releaseMs === "auto";
+    this.attackCoeff = timeConstantCoeff(attackMs, sampleRate);
+    this.releaseCoeff = timeConstantCoeff(auto ? AUTO_FAST_RELEASE_MS : (releaseMs as number), sampleRate);
+    // A coefficient of 1 keeps the envelope where it is: t + 1·(0 − t) = 0
+    // exactly, so with a fixed release the slow envelope stays 0 and
+    // max(fast, slow) = fast, with no branch on the mode per frame.
+    this.slowAttackCoeff = auto ? timeConstantCoeff(AUTO_SLOW_ATTACK_MS, sampleRate) : 1;
+    this.slowReleaseCoeff = auto ? timeConstantCoeff(AUTO_SLOW_RELEASE_MS, sampleRate) : 1;
   }
 
   reset(): void {
@@ -45,17 +49,32 @@ export class GainSmoother {
 
   /** One frame: target reduction (dB, ≥ 0) → smoothed reduction (dB). */
   next(targetDb: number): number {
-    const f = this.fastDb;
-    const cf = targetDb > f ? this.attack : this.release;
-    let fast = targetDb + cf * (f - targetDb);
-    if (fast < FLUSH_BELOW_DB) fast = 0;
+    this.one[0] = targetDb;
+    this.process(this.one, this.one, 1);
+    return this.one[0];
+  }
+
+  /**
+   * A block: target reductions (dB, ≥ 0) → smoothed reductions (dB); `outDb`
+   * may be `targetDb`. Returns the block's largest smoothed reduction.
+   */
+  process(targetDb: Float64Array, outDb: Float64Array, frames: number): number {
+    const att = this.attackCoeff, rel = this.releaseCoeff;
+    const slowAtt = this.slowAttackCoeff, slowRel = this.slowReleaseCoeff;
+    let fast = this.fastDb, slow = this.slowDb;
+    let max = 0;
+    for (let i = 0; i < frames; i++) {
+      const t = targetDb[i];
+      fast = t + (t > fast ? att : rel) * (fast - t);
+      if (fast < FLUSH_BELOW_DB) fast = 0;
+      slow = t + (t > slow ? slowAtt : slowRel) * (slow - t);
+      if (slow < FLUSH_BELOW_DB) slow = 0;
+      const out = fast > slow ? fast : slow;
+      outDb[i] = out;
+      if (out > max) max = out;
+    }
     this.fastDb = fast;
-    if (!this.auto) return fast;
-    const s = this.slowDb;
-    const cs = targetDb > s ? this.slowAttack : this.slowRelease;
-    let slow = targetDb + cs * (s - targetDb);
-    if (slow < FLUSH_BELOW_DB) slow = 0;
     this.slowDb = slow;
-    return fast > slow ? fast : slow;
+    return max;
   }
 }
