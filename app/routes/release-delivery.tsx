@@ -204,7 +204,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
         <h2 id="formats-heading" className="mb-2 text-lg font-semibold">
           Formats
         </h2>
-        <p className="mb-3 text-sm text-ink-soft">{ownFormats ? "This release's own formats." : "The studio's default formats. Adding one gives this release its own list, starting from these."}</p>
+        <p className="mb-3 text-sm text-ink-soft">{ownFormats ? "This release's own formats." : "The studio's default formats. Adding, editing or deleting one gives this release its own list, starting from these."}</p>
         <div className="card mb-4 overflow-x-auto">
           <table className="data-table" aria-label="Delivery formats">
             <thead>
@@ -255,7 +255,9 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
             </h3>
             <p className="text-sm text-ink-soft">
               {deleting.finishedFiles > 0
-                ? `The ${deleting.finishedFiles} ${deleting.finishedFiles === 1 ? "file" : "files"} already made in it stay in storage and in the list below, but leave the release package and the loudness report.`
+                ? deleting.finishedFiles === 1
+                  ? "The file already made in it stays in storage and in the list below, but leaves the release package and the loudness report."
+                  : `The ${deleting.finishedFiles} files already made in it stay in storage and in the list below, but leave the release package and the loudness report.`
                 : "No file has been made in it yet."}{" "}
               Deliveries still queued in it are dropped.
             </p>

@@ -106,6 +106,17 @@ test("owner bills the release, the client pays and downloads the finals", async 
     expect(states.every((s) => s === "done")).toBe(true);
   }).toPass({ timeout: 90_000, intervals: [1_000, 2_000] });
 
+  // The CD format is not wanted after all: deleted after a confirmation; its file stays listed, out of the package.
+  await expect(owner.getByText("1 of 1 track is ready.", { exact: false })).toBeVisible();
+  await owner.getByRole("link", { name: "Delete CD master 16-bit 44.1 kHz" }).click();
+  await expect(owner.getByRole("heading", { name: "Delete the format “CD master 16-bit 44.1 kHz”?" })).toBeVisible();
+  await expect(owner.getByText(/The file already made in it stays in storage/)).toBeVisible();
+  mkdirSync(ARTIFACTS, { recursive: true });
+  await owner.screenshot({ path: path.join(ARTIFACTS, "delivery-delete-format.png"), fullPage: true });
+  await owner.getByRole("button", { name: "Delete format" }).click();
+  await expect(owner.getByRole("table", { name: "Delivery formats" }).locator("tbody tr")).toHaveCount(1);
+  await expect(owner.getByRole("table", { name: "Deliveries" }).getByText("format deleted or changed · not in the package")).toHaveCount(1);
+
   await owner.goto(`/releases/${releaseId}/loudness-report`);
   await expect(owner.getByRole("table", { name: "Loudness report" }).locator("tbody tr").first()).toContainText("Lantern tide");
 
@@ -171,6 +182,9 @@ test("owner bills the release, the client pays and downloads the finals", async 
   expect(zip.subarray(0, 4)).toEqual(Buffer.from([0x50, 0x4b, 0x03, 0x04]));
   expect(zip.includes(Buffer.from("Lantern tide"))).toBe(true);
   expect(zip.includes(Buffer.from(".csv"))).toBe(true);
+  // Only the kept format's folder (zip names are stored in the clear).
+  expect(zip.includes(Buffer.from("Streaming master 24-bit 48 kHz/"))).toBe(true);
+  expect(zip.includes(Buffer.from("CD master"))).toBe(false);
 
   await ownerContext.close();
   await clientContext.close();
