@@ -9,6 +9,9 @@
 // Output never exceeds the ceiling on the detected points; for true peak we
 // leave TRUE_PEAK_MARGIN_DB so the BS.1770 meter of the output reads at or
 // under the ceiling despite the gain changing between detected points.
+// Each step runs as its own loop over the block (gain, detection, required
+// gain, the running minimum, release and ramp, output): short loops V8
+// compiles tightly, with the state in locals for the block.
 
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import { dbToLinear, msToFrames, timeConstantCoeff } from "../units.ts";
@@ -98,34 +101,29 @@ export class Limiter implements Processor, GainReductionSource {
         line[delayFrames + i] = v;
       }
     }
-    const peaks = this.peaks;
-    if (this.detector) {
-      this.detector.processPerFrame(channels, frames, peaks);
-      // Also the sample itself, at the detector's delay (it is in the line).
-      const lag = this.lookaheadFrames;
-      for (let c = 0; c < nch; c++) {
-        const line = this.delay[c];
-        for (let i = 0; i < frames; i++) {
-          const a = Math.abs(line[lag + i]);
-          if (a > peaks[i]) peaks[i] = a;
-        }
-      }
-    } else {
-      peaks.fill(0, 0, frames);
+    const gain = this.peaks; // peaks, then required gains, then the held minimum, then the gain
+    // The detector's points include the sample itself (its phase 0, at the detector's delay).
+    if (this.detector) this.detector.processPerFrame(channels, frames, gain);
+    else {
+      gain.fill(0, 0, frames);
       for (let c = 0; c < nch; c++) {
         const x = channels[c];
         for (let i = 0; i < frames; i++) {
           const a = Math.abs(x[i]);
-          if (a > peaks[i]) peaks[i] = a;
+          if (a > gain[i]) gain[i] = a;
         }
       }
     }
-    const ceiling = this.ceiling, rel = this.release, hold = this.hold, box = this.boxcar, boxLength = this.boxLength;
+    const ceiling = this.ceiling;
+    for (let i = 0; i < frames; i++) {
+      const p = gain[i];
+      gain[i] = p > ceiling ? ceiling / p : 1;
+    }
+    this.hold.pushBlock(gain, gain, frames);
+    const rel = this.release, box = this.boxcar, boxLength = this.boxLength;
     let env = this.envelope, sum = this.boxSum, bi = this.boxIndex, minGain = this.minGain;
     for (let i = 0; i < frames; i++) {
-      const p = peaks[i];
-      const required = p > ceiling ? ceiling / p : 1;
-      const h = hold.push(required);
+      const h = gain[i];
       env = h < env ? h : h + rel * (env - h);
       sum += env - box[bi];
       box[bi] = env;
@@ -136,7 +134,7 @@ export class Limiter implements Processor, GainReductionSource {
         for (let k = 0; k < boxLength; k++) sum += box[k];
       }
       const g = sum / boxLength;
-      peaks[i] = g;
+      gain[i] = g;
       if (g < minGain) minGain = g;
     }
     this.envelope = env;
@@ -146,7 +144,7 @@ export class Limiter implements Processor, GainReductionSource {
     for (let c = 0; c < nch; c++) {
       const x = channels[c];
       const line = this.delay[c];
-      for (let i = 0; i < frames; i++) x[i] = line[i] * peaks[i];
+      for (let i = 0; i < frames; i++) x[i] = line[i] * gain[i];
       line.copyWithin(0, frames, frames + delayFrames);
     }
   }
