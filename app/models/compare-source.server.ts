@@ -33,8 +33,15 @@ export type CompareSource = {
 
 const finiteOrNull = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : null);
 
-export const renderLabel = (r: Pick<ReviewableRender, "kind" | "region" | "mixVersion" | "revision">) =>
-  `${r.kind === "print" ? "Print" : `Preview ${formatClock(r.region?.startS ?? 0)}–${formatClock(r.region?.endS ?? 0)}`} · mix v${r.mixVersion} · chain r${r.revision}`;
+const when = (d: Date) => `${d.toISOString().slice(0, 16).replace("T", " ")} UTC`;
+
+/**
+ * "Preview 0:30.0–1:00.0 · mix v2 · Gentle master r3" for staff; a client,
+ * who does not see the studio's chains, tells two versions apart by when
+ * they were finished instead.
+ */
+export const renderLabel = (r: Pick<ReviewableRender, "kind" | "region" | "mixVersion" | "revision" | "chainName" | "finishedAt">, staff: boolean) =>
+  `${r.kind === "print" ? "Print" : `Preview ${formatClock(r.region?.startS ?? 0)}–${formatClock(r.region?.endS ?? 0)}`} · mix v${r.mixVersion} · ${staff ? `${r.chainName} r${r.revision}` : when(r.finishedAt)}`;
 
 export const mixLabel = (m: Pick<Mix, "version" | "originalName">) => `Mix v${m.version} · ${m.originalName}`;
 
@@ -49,7 +56,7 @@ export async function listCompareSources(viewer: Viewer, track: { id: string; re
         type: "render",
         id: r.id,
         mixId: r.mixId,
-        label: renderLabel(r),
+        label: renderLabel(r, isStaff(viewer.role)),
         offsetS: r.region?.startS ?? 0,
         integratedLufs: r.integratedLufs,
         sentForReview: r.sentForReview,

@@ -138,6 +138,8 @@ describe("compare page with mixes", () => {
     const page = (await load("engineer")) as Awaited<ReturnType<typeof loader>>;
     expect(page.choices.map((c) => c.key)).toEqual([`render:${renders.preview}`, `render:${renders.print}`, `mix:${mix2Id}`, `mix:${mixId}`]);
     expect(page.a?.key).toBe(`render:${renders.preview}`);
+    expect(page.a?.label).toBe("Preview 0:10.0–0:12.0 · mix v1 · Chain preview r1");
+    expect(page.b?.label).toBe("Mix v1 · shoreline.wav");
     expect(page.b).toMatchObject({ key: `mix:${mixId}`, type: "mix", offsetS: 0, integratedLufs: -18 });
     expect(page.b?.audioUrl).toBe(`/releases/${f.releaseId}/tracks/${f.trackId}/mixes/${mixId}/download`);
     // No chains to set side by side.
@@ -163,6 +165,8 @@ describe("compare page with mixes", () => {
     const client = (await load("client", `?a=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
     expect(client.choices.every((c) => c.type === "render")).toBe(true);
     expect(client.a?.type).toBe("render");
+    // The client does not see the studio's chain names: a version is told by when it was finished.
+    expect(client.a?.label).toMatch(/^Print · mix v1 · \d{4}-\d\d-\d\d \d\d:\d\d UTC$/);
     // A bare id (the e-mailed links) still names a render; a malformed key is ignored.
     const bare = (await load("engineer", `?a=${renders.print}&b=nonsense`)) as Awaited<ReturnType<typeof loader>>;
     expect([bare.a?.key, bare.b?.key]).toEqual([`render:${renders.print}`, `mix:${mixId}`]);
