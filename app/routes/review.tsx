@@ -43,6 +43,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       integratedLufs: render.integratedLufs,
     },
     sentCount: sent.length,
+    // The version sent before this one (newest first), for the A/B link; else the newest other.
+    earlierSentId: render ? (sent[sent.indexOf(render) + 1] ?? sent.find((r) => r.id !== render.id))?.id ?? null : null,
     comments: render ? await listComments({ renderId: render.id }) : [],
   };
 }
@@ -52,7 +54,7 @@ export async function action(args: Route.ActionArgs) {
 }
 
 export default function Review({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, track, staff, review, render, sentCount, comments } = loaderData;
+  const { release, track, staff, review, render, earlierSentId, comments } = loaderData;
   const audioRef = useRef<HTMLAudioElement>(null);
   const [durationS, setDurationS] = useState<number | null>(null);
   const [positionS, setPositionS] = useState(0);
@@ -159,9 +161,9 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
             <p className="num text-xs text-ink-soft" data-testid="review-position">
               {formatClock(positionS)}
             </p>
-            {sentCount > 1 && (
+            {earlierSentId && (
               <p className="text-sm">
-                <Link to={`/releases/${release.id}/tracks/${track.id}/compare?a=${render.id}`} className="text-accent-deep underline-offset-4 hover:underline">
+                <Link to={`/releases/${release.id}/tracks/${track.id}/compare?a=render:${render.id}&b=render:${earlierSentId}`} className="text-accent-deep underline-offset-4 hover:underline">
                   Compare with an earlier version (A/B)
                 </Link>
               </p>
