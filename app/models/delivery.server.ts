@@ -199,19 +199,31 @@ export async function releasePackage(releaseId: string, options: { storage?: Sto
 
 /**
  * Queues a delivery of every approved track in every format of the release,
- * each from the print the client approved (releaseDeliveryPlan). Tracks left
- * out are returned with the reason. Returns the ids of the new deliveries (to
- * hand to makeDelivery, in a worker).
+ * each from the print the client approved (releaseDeliveryPlan). A file
+ * already made, or on its way, from the same print in the same format is not
+ * made again (counted in alreadyMade). Tracks left out are returned with the
+ * reason. Returns the ids of the new deliveries (to hand to makeDelivery, in
+ * a worker).
  */
-export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; leftOut: TrackDeliveryPlan[] }> {
+export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; alreadyMade: number; leftOut: TrackDeliveryPlan[] }> {
   const formats = await releaseFormats(releaseId, conn);
   const plan = await releaseDeliveryPlan(releaseId, conn);
   const deliveryIds: string[] = [];
+  let alreadyMade = 0;
   await conn.transaction(async (trx) => {
+    // One "Make deliveries" at a time per release, so two clicks cannot both queue the same files.
+    await trx("releases").where({ id: releaseId }).forUpdate().first("id");
     for (const p of plan) {
       if (!p.sourceRenderId) continue;
-      for (const f of formats) deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.sourceRenderId }, trx));
+      for (const f of formats) {
+        const existing = await trx("deliveries")
+          .where({ track_id: p.trackId, format_id: f.id, source_render_id: p.sourceRenderId })
+          .whereIn("state", ["queued", "running", "done"])
+          .first("id");
+        if (existing) alreadyMade++;
+        else deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.sourceRenderId }, trx));
+      }
     }
   });
-  return { deliveryIds, leftOut: plan.filter((p) => !p.sourceRenderId) };
+  return { deliveryIds, alreadyMade, leftOut: plan.filter((p) => !p.sourceRenderId) };
 }

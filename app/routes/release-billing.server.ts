@@ -12,7 +12,8 @@ export async function releaseBillingData(releaseId: string, user: Pick<CurrentUs
     getInvoiceForRelease(releaseId),
     isReleasePaid(releaseId),
     finalsOpenFor(user, releaseId),
-    db("deliveries").where({ release_id: releaseId, state: "done" }).first("id"),
+    // A file whose format was deleted or changed is not in the package.
+    db("deliveries").where({ release_id: releaseId, state: "done" }).whereNotNull("format_id").first("id"),
   ]);
   const staff = isStaff(user.role);
   const invoice = found && (staff || found.state !== "draft") ? found : undefined;

@@ -100,17 +100,17 @@ async function ownFormats(trx: Knex.Transaction, studioId: string, releaseId: st
 const printsDiffer = (a: StoredFormat, b: { sampleRate: number; bitDepth: number | string; dither: string; ceilingDbtp: number; targetLufs?: number }) =>
   a.sampleRate !== b.sampleRate || String(a.bitDepth) !== String(b.bitDepth) || a.dither !== b.dither || a.ceilingDbtp !== b.ceilingDbtp || (a.targetLufs ?? null) !== (b.targetLufs ?? null);
 
-type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; leftOut: number };
-const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, leftOut: 0, ...r }, { status });
+type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number };
+const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, ...r }, { status });
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const form = await request.formData();
   const intent = String(form.get("intent") ?? "");
   if (intent === "make") {
-    const { deliveryIds, leftOut } = await queueReleaseDeliveries(release.id);
+    const { deliveryIds, alreadyMade, leftOut } = await queueReleaseDeliveries(release.id);
     for (const id of deliveryIds) await enqueueDelivery(id, ASSUMED_AUDIO_SECONDS);
-    return reply({ intent, queued: deliveryIds.length, leftOut: leftOut.length });
+    return reply({ intent, queued: deliveryIds.length, alreadyMade, leftOut: leftOut.length });
   }
   if (intent === "delete-format") {
     if (form.get("confirm") !== "yes") return reply({ intent, errors: { form: "Confirm the deletion." } }, 400);
@@ -321,12 +321,12 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           <button type="submit" className="btn-primary">
             Make deliveries
           </button>
-          <span className="text-sm text-ink-soft">Every approved track, from its approved print, in every format above.</span>
+          <span className="text-sm text-ink-soft">Every approved track, from its approved print, in every format above; files already made from that print are kept.</span>
         </Form>
         {made && (
           <FormNotice
             tone="info"
-            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
+            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.alreadyMade > 0 ? ` ${made.alreadyMade} already made (or on the way) from the same print were not made again.` : ""}${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
           />
         )}
         {deliveries.length === 0 ? (

@@ -7,8 +7,9 @@
 // loudness fields (EBU Tech 3285 v2 stores them in hundredths, so they equal
 // the recorded analysis to 0.01), and the true peak, measured again by our
 // ITU-R BS.1770-4 meter, at or under the ceiling. Then the handler's other
-// branches: a finished delivery is not made twice, a job without a delivery
-// id fails, a print missing from storage fails the row and the try.
+// branches: a finished delivery is not made twice (nor queued twice), a job
+// of a delivery that is gone completes, a job without a delivery id fails, a
+// print missing from storage fails the row and the try.
 process.env.TIDEMARK_QUEUE_NAMESPACE = `deliver-job-${process.pid}`;
 process.env.RENDER_JOB_RETRY_LIMIT = "1";
 process.env.RENDER_JOB_RETRY_DELAY_SECONDS = "0";
@@ -93,7 +94,7 @@ afterAll(async () => {
 describe("the deliver job", () => {
   it("makes every format of the approved print: format, bext loudness and ceiling", async () => {
     const formats = await releaseFormats(fixture.releaseId);
-    expect(await makeDeliveries()).toEqual({ intent: "make", errors: {}, values: {}, queued: formats.length, leftOut: 0 });
+    expect(await makeDeliveries()).toEqual({ intent: "make", errors: {}, values: {}, queued: formats.length, alreadyMade: 0, leftOut: 0 });
     const jobs = await fetchJobs();
     expect(jobs).toHaveLength(formats.length);
     for (const job of jobs) {
@@ -140,6 +141,21 @@ describe("the deliver job", () => {
     expect(await db("deliveries").where({ id: row.id }).first()).toEqual(row);
   });
 
+  it("queues nothing again for files already made from the same print", async () => {
+    const formats = await releaseFormats(fixture.releaseId);
+    expect(await makeDeliveries()).toMatchObject({ queued: 0, alreadyMade: formats.length });
+    expect(await fetchJobs()).toEqual([]);
+  });
+
+  it("completes the job of a delivery that is gone (its format was deleted while it waited)", async () => {
+    const [row] = await db("deliveries").where({ release_id: fixture.releaseId }).limit(1);
+    const id = await boss.send(settings.deliverQueue, { deliveryId: randomUUID() });
+    const [job] = await fetchJobs();
+    await runDeliveryJob(job!, ctx);
+    expect(await jobState(id!)).toBe("completed");
+    expect(await db("deliveries").where({ id: row.id }).first()).toEqual(row);
+  });
+
   it("fails a job that names no delivery", async () => {
     const id = await boss.send(settings.deliverQueue, { something: "else" }, { retryLimit: 0 });
     const [job] = await fetchJobs();
@@ -149,6 +165,9 @@ describe("the deliver job", () => {
 
   it("records a failure when the print is gone from storage, and leaves the try to be retried", async () => {
     await storage().delete(printKey);
+    // The files made above are removed, so the print is delivered afresh.
+    for (const row of await db("deliveries").where({ release_id: fixture.releaseId }).select("storage_key")) await storage().delete(row.storage_key);
+    await db("deliveries").where({ release_id: fixture.releaseId }).delete();
     const { queued } = await makeDeliveries();
     expect(queued).toBeGreaterThan(0);
     const jobs = await fetchJobs();
