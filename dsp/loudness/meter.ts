@@ -169,31 +169,15 @@ export class LoudnessMeter {
         this.truePeak.process(this.tpChunk, n);
       }
     }
-    if (this.channels === 2) this.correlate(channels[0], channels[1], frames);
     let pos = 0;
     while (pos < frames) {
       const n = Math.min(frames - pos, this.gridFrames - this.stepFill);
-      for (let ch = 0; ch < this.channels; ch++) this.weigh(channels[ch], ch, pos, pos + n);
+      if (this.channels === 2) this.weighStereo(channels[0], channels[1], pos, pos + n);
+      else this.weigh(channels[0], 0, pos, pos + n);
       this.stepFill += n;
       pos += n;
       if (this.stepFill === this.gridFrames) this.completeStep();
     }
-  }
-
-  private correlate(l: Float64Array, r: Float64Array, frames: number): void {
-    let ll = this.sumLL;
-    let rr = this.sumRR;
-    let lr = this.sumLR;
-    for (let i = 0; i < frames; i++) {
-      const a = l[i];
-      const b = r[i];
-      ll += a * a;
-      rr += b * b;
-      lr += a * b;
-    }
-    this.sumLL = ll;
-    this.sumRR = rr;
-    this.sumLR = lr;
   }
 
   // Both K-weighting stages (transposed direct form II), the squared sum and the sample peak in one pass.
@@ -226,6 +210,59 @@ export class LoudnessMeter {
     this.samplePeak = peak;
   }
 
+  // weigh() for both channels in one loop, with the correlation sums: two
+  // independent filter chains per iteration, so each waits less on its own
+  // previous sample (the recursions are latency-bound).
+  private weighStereo(l: Float64Array, r: Float64Array, start: number, end: number): void {
+    const c = this.coeffs;
+    const b0 = c[0], b1 = c[1], b2 = c[2], a1 = c[3], a2 = c[4];
+    const d0 = c[5], d1 = c[6], d2 = c[7], e1 = c[8], e2 = c[9];
+    const st = this.state;
+    let s1 = st[0], s2 = st[1], t1 = st[2], t2 = st[3];
+    let u1 = st[4], u2 = st[5], w1 = st[6], w2 = st[7];
+    let energyL = this.stepEnergy[0], energyR = this.stepEnergy[1];
+    let peak = this.samplePeak;
+    let ll = this.sumLL, rr = this.sumRR, lr = this.sumLR;
+    for (let i = start; i < end; i++) {
+      const v = l[i];
+      const y = b0 * v + s1;
+      s1 = b1 * v - a1 * y + s2;
+      s2 = b2 * v - a2 * y;
+      const z = d0 * y + t1;
+      t1 = d1 * y - e1 * z + t2;
+      t2 = d2 * y - e2 * z;
+      energyL += z * z;
+      const q = r[i];
+      const yr = b0 * q + u1;
+      u1 = b1 * q - a1 * yr + u2;
+      u2 = b2 * q - a2 * yr;
+      const zr = d0 * yr + w1;
+      w1 = d1 * yr - e1 * zr + w2;
+      w2 = d2 * yr - e2 * zr;
+      energyR += zr * zr;
+      ll += v * v;
+      rr += q * q;
+      lr += v * q;
+      const a = Math.abs(v), b = Math.abs(q);
+      if (a > peak) peak = a;
+      if (b > peak) peak = b;
+    }
+    st[0] = s1;
+    st[1] = s2;
+    st[2] = t1;
+    st[3] = t2;
+    st[4] = u1;
+    st[5] = u2;
+    st[6] = w1;
+    st[7] = w2;
+    this.stepEnergy[0] = energyL;
+    this.stepEnergy[1] = energyR;
+    this.samplePeak = peak;
+    this.sumLL = ll;
+    this.sumRR = rr;
+    this.sumLR = lr;
+  }
+
   private completeStep(): void {
     let energy = 0;
     for (let ch = 0; ch < this.channels; ch++) {
@@ -236,21 +273,20 @@ export class LoudnessMeter {
       if (Math.abs(st[o]) < FLUSH_BELOW && Math.abs(st[o + 1]) < FLUSH_BELOW) st[o] = st[o + 1] = 0;
       if (Math.abs(st[o + 2]) < FLUSH_BELOW && Math.abs(st[o + 3]) < FLUSH_BELOW) st[o + 2] = st[o + 3] = 0;
     }
-    const ringLen = this.shortTermSteps;
-    this.ring[this.stepCount % ringLen] = energy;
+    const ringLen = this.shortTermSteps, ring = this.ring;
+    const newest = this.stepCount % ringLen;
+    ring[newest] = energy;
     this.stepCount++;
     this.stepFill = 0;
 
-    // Sums recomputed in a fixed order (not running sums) so no drift builds up over hours.
+    // Sums recomputed in a fixed order, newest first (not running sums), so no drift builds up over hours.
     let shortSum = 0;
     let momentarySum = 0;
-    const newest = this.stepCount - 1;
-    for (let k = 0; k < ringLen; k++) {
-      const idx = newest - k;
-      if (idx < 0) break;
-      const e = this.ring[idx % ringLen];
+    const filled = Math.min(this.stepCount, ringLen), momentarySteps = Math.min(filled, this.momentarySteps);
+    for (let k = 0, idx = newest; k < filled; k++, idx = idx === 0 ? ringLen - 1 : idx - 1) {
+      const e = ring[idx];
       shortSum += e;
-      if (k < this.momentarySteps) momentarySum += e;
+      if (k < momentarySteps) momentarySum += e;
     }
     const momentaryPower = momentarySum / (this.momentarySteps * this.gridFrames);
     const shortTermPower = shortSum / (ringLen * this.gridFrames);
