@@ -183,6 +183,14 @@ createRoot(document.getElementById("root")!).render(
   it("starts a long pair from its first seconds, then swaps in the whole files while playing, on one clock", async () => {
     const long = await browser!.newPage();
     try {
+      // The rest of the files is held back until playback has begun, so the swap happens while playing.
+      let release: () => void = () => {};
+      const held = new Promise<void>((r) => (release = r));
+      await long.route(/long-[ab]\.wav$/, async (route) => {
+        const start = Number(/^bytes=(\d+)-/.exec(route.request().headers()["range"] ?? "")?.[1] ?? 0);
+        if (start > 12 * SR * 4) await held;
+        await route.continue();
+      });
       // The safety notice was confirmed on the first page; this is a new page of the same test run.
       await long.addInitScript(() => sessionStorage.setItem("tidemark:monitoring-level-set", "1"));
       await long.goto(`${server!.resolvedUrls!.local[0]}?long`);
@@ -191,6 +199,9 @@ createRoot(document.getElementById("root")!).render(
       // The position bar spans the whole 90 s from the first moment, before the rest has arrived.
       expect(await long.getByLabel("Position").getAttribute("max")).toBe("90");
       await long.getByRole("button", { name: "Play" }).click();
+      await expect.poll(async () => Number((await longAttrs()).positionS), { timeout: 10_000 }).toBeGreaterThan(0.3);
+      expect((await longAttrs()).loaded).toBe("partial");
+      release();
       await long.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-loaded") === "full", null, { timeout: 60_000 });
       const states = await long.evaluate(() => (window as unknown as { loadedStates: string[] }).loadedStates);
       expect(states).toEqual(["none", "partial", "full"]);
@@ -205,7 +216,39 @@ createRoot(document.getElementById("root")!).render(
       // Past the first 12 s now: seekable anywhere once whole.
       await long.getByLabel("Position").fill("70");
       expect(Number((await longAttrs()).positionS)).toBeGreaterThanOrEqual(70);
-      console.log(`[player] long pair ready to play after ${(await longAttrs()).readyMs} ms (90 s, 2 × ${(90 * SR * 4 / 1e6).toFixed(1)} MB)`);
+    } finally {
+      await long.close();
+    }
+  });
+
+  it("waits at the end of what has loaded, and plays on from there when the rest arrives", async () => {
+    const long = await browser!.newPage();
+    try {
+      // Hold back every request for the rest of the files (ranges past the first 12 s) until released.
+      let release: () => void = () => {};
+      const held = new Promise<void>((r) => (release = r));
+      await long.route(/long-[ab]\.wav$/, async (route) => {
+        const start = Number(/^bytes=(\d+)-/.exec(route.request().headers()["range"] ?? "")?.[1] ?? 0);
+        if (start > 12 * SR * 4) await held;
+        await route.continue();
+      });
+      await long.addInitScript(() => sessionStorage.setItem("tidemark:monitoring-level-set", "1"));
+      await long.goto(`${server!.resolvedUrls!.local[0]}?long`);
+      const player = long.getByTestId("ab-player");
+      await long.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-state") === "ready", null, { timeout: 60_000 });
+      const attrs = () => player.evaluate((el) => ({ ...(el as HTMLElement).dataset }));
+      expect((await attrs()).loaded).toBe("partial");
+      await long.getByLabel("Position").fill("11.4");
+      await long.getByRole("button", { name: "Play" }).click();
+      await expect.poll(async () => (await attrs()).playing, { timeout: 10_000 }).toBe("false");
+      expect(await long.getByTestId("loading-rest").textContent()).toContain("Waiting for the rest");
+      const waitedAt = Number((await attrs()).positionS);
+      expect(waitedAt).toBeGreaterThan(11.8);
+      expect(waitedAt).toBeLessThanOrEqual(12);
+      release();
+      await expect.poll(async () => (await attrs()).loaded, { timeout: 30_000 }).toBe("full");
+      await expect.poll(async () => (await attrs()).playing, { timeout: 10_000 }).toBe("true");
+      await expect.poll(async () => Number((await attrs()).positionS), { timeout: 10_000 }).toBeGreaterThan(12.3);
     } finally {
       await long.close();
     }

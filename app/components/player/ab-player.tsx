@@ -180,6 +180,8 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
       if (engine.starved()) {
         // Ran up to the end of what is decoded: wait for the rest, then go on from here.
         engine.pause();
+        // The frame that noticed may be a few ms past the end: back to the last decoded moment.
+        engine.seek(engine.positionS());
         waitingRef.current = true;
         setWaiting(true);
         setPlaying(false);
