@@ -17,7 +17,8 @@
 // split at 90 Hz; high half through A(90 Hz) and split at 3 kHz — 3 splits
 // and 2 all-passes per channel (a chain of splits from the bottom needs 3).
 // The sum of the bands is the product of all the crossovers' all-passes:
-// flat magnitude. Two channels run in one loop (see paired-biquad.ts).
+// flat magnitude. Each compensation all-pass runs in the loop of the split
+// that follows it where there is one.
 
 import { type BiquadCoeffs, BUTTERWORTH_Q, designBiquad } from "./biquad-design.ts";
 import { FLUSH_INTERVAL_FRAMES, flushPairs, PairedBiquad } from "./paired-biquad.ts";
@@ -40,26 +41,39 @@ export function designLinkwitzRiley4(crossoverHz: number, sampleRate: number): L
 }
 
 /**
- * One LR4 crossover on a pair of channels (or one): low = LP²(x) into
- * `low`, x becomes high = A(x) − low (in place). The Butterworth low-pass is
- * g·(1 + z⁻¹)²/D(z) and the all-pass (a2 + a1 z⁻¹ + z⁻²)/D(z) with the same
- * D(z) = 1 + a1 z⁻¹ + a2 z⁻²; both sections' gain g² is applied to the input
- * once. Transposed direct form II, float64; state per channel: LP, LP, A.
+ * One LR4 crossover: low = LP²(x) into `low`, x becomes high = A(x) − low
+ * (in place). The Butterworth low-pass is g·(1 + z⁻¹)²/D(z) and the all-pass
+ * (a2 + a1 z⁻¹ + z⁻²)/D(z) with the same D(z) = 1 + a1 z⁻¹ + a2 z⁻²; both
+ * low-pass sections' gain g² is applied to the input once. Optionally the
+ * input first passes through one compensation all-pass (of another
+ * crossover) in the same loop. Transposed direct form II, float64, the sum
+ * in each state update ordered so that the product with the new output comes
+ * last (shorter dependency chain from one frame to the next). One channel per
+ * loop: three or four sections already keep the CPU busy, and two channels
+ * would not fit V8's registers.
  */
 class Lr4Split {
   private readonly gain2: number;
   private readonly a1: number;
   private readonly a2: number;
-  private readonly state: Float64Array; // per channel: 3 sections × (s1, s2)
+  /** The all-pass run before the split, or 0, 0 for none. */
+  private readonly pre1: number;
+  private readonly pre2: number;
+  private readonly hasPre: boolean;
+  private readonly state: Float64Array; // per channel: LP, LP, A, pre-all-pass × (s1, s2)
   private untilFlush = FLUSH_INTERVAL_FRAMES;
 
-  constructor(coeffs: LinkwitzRileyCoeffs, private readonly channels: number) {
+  constructor(coeffs: LinkwitzRileyCoeffs, private readonly channels: number, preAllPass: BiquadCoeffs | null) {
     const { lowPass: l, allPass: a } = coeffs;
-    // The cookbook low-pass and all-pass share a1, a2 exactly (same formulas).
+    // The cookbook low-pass and all-pass share a1, a2 exactly (same formulas),
+    // and the low-pass has b1 = 2·b0, b2 = b0; the all-pass b0 = a2, b1 = a1, b2 = 1.
     this.gain2 = l.b0 * l.b0;
     this.a1 = a.a1;
     this.a2 = a.a2;
-    this.state = new Float64Array(6 * channels);
+    this.hasPre = preAllPass !== null;
+    this.pre1 = preAllPass ? preAllPass.a1 : 0;
+    this.pre2 = preAllPass ? preAllPass.a2 : 0;
+    this.state = new Float64Array(8 * channels);
   }
 
   reset(): void {
@@ -71,9 +85,10 @@ class Lr4Split {
     let start = 0;
     while (start < frames) {
       const end = Math.min(frames, start + this.untilFlush);
-      let c = 0;
-      for (; c + 1 < this.channels; c += 2) this.pair(x[c], x[c + 1], low[c], low[c + 1], 6 * c, start, end);
-      if (c < this.channels) this.one(x[c], low[c], 6 * c, start, end);
+      for (let c = 0; c < this.channels; c++) {
+        if (this.hasPre) this.withPre(x[c], low[c], 8 * c, start, end);
+        else this.plain(x[c], low[c], 8 * c, start, end);
+      }
       this.untilFlush -= end - start;
       if (this.untilFlush === 0) {
         this.untilFlush = FLUSH_INTERVAL_FRAMES;
@@ -83,61 +98,51 @@ class Lr4Split {
     }
   }
 
-  private pair(xa: Float64Array, xb: Float64Array, la: Float64Array, lb: Float64Array, o: number, start: number, end: number): void {
-    const g = this.gain2, a1 = this.a1, a2 = this.a2;
-    const st = this.state;
-    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3], r1 = st[o + 4], r2 = st[o + 5];
-    let u1 = st[o + 6], u2 = st[o + 7], v1 = st[o + 8], v2 = st[o + 9], w1 = st[o + 10], w2 = st[o + 11];
-    for (let i = start; i < end; i++) {
-      const x = xa[i], y = xb[i];
-      const gx = g * x, gy = g * y;
-      const lx1 = gx + p1;
-      p1 = gx + gx - a1 * lx1 + p2;
-      p2 = gx - a2 * lx1;
-      const ly1 = gy + u1;
-      u1 = gy + gy - a1 * ly1 + u2;
-      u2 = gy - a2 * ly1;
-      const lx2 = lx1 + q1;
-      q1 = lx1 + lx1 - a1 * lx2 + q2;
-      q2 = lx1 - a2 * lx2;
-      const ly2 = ly1 + v1;
-      v1 = ly1 + ly1 - a1 * ly2 + v2;
-      v2 = ly1 - a2 * ly2;
-      const ax = a2 * x + r1;
-      r1 = a1 * (x - ax) + r2;
-      r2 = x - a2 * ax;
-      const ay = a2 * y + w1;
-      w1 = a1 * (y - ay) + w2;
-      w2 = y - a2 * ay;
-      la[i] = lx2;
-      lb[i] = ly2;
-      xa[i] = ax - lx2;
-      xb[i] = ay - ly2;
-    }
-    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2; st[o + 4] = r1; st[o + 5] = r2;
-    st[o + 6] = u1; st[o + 7] = u2; st[o + 8] = v1; st[o + 9] = v2; st[o + 10] = w1; st[o + 11] = w2;
-  }
-
-  private one(xa: Float64Array, la: Float64Array, o: number, start: number, end: number): void {
+  private plain(xa: Float64Array, la: Float64Array, o: number, start: number, end: number): void {
     const g = this.gain2, a1 = this.a1, a2 = this.a2;
     const st = this.state;
     let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3], r1 = st[o + 4], r2 = st[o + 5];
     for (let i = start; i < end; i++) {
       const x = xa[i];
       const gx = g * x;
-      const lx1 = gx + p1;
-      p1 = gx + gx - a1 * lx1 + p2;
-      p2 = gx - a2 * lx1;
-      const lx2 = lx1 + q1;
-      q1 = lx1 + lx1 - a1 * lx2 + q2;
-      q2 = lx1 - a2 * lx2;
-      const ax = a2 * x + r1;
-      r1 = a1 * (x - ax) + r2;
-      r2 = x - a2 * ax;
-      la[i] = lx2;
-      xa[i] = ax - lx2;
+      const l1 = gx + p1;
+      p1 = gx + gx + p2 - a1 * l1;
+      p2 = gx - a2 * l1;
+      const l2 = l1 + q1;
+      q1 = l1 + l1 + q2 - a1 * l2;
+      q2 = l1 - a2 * l2;
+      const ap = a2 * x + r1;
+      r1 = a1 * x + r2 - a1 * ap;
+      r2 = x - a2 * ap;
+      la[i] = l2;
+      xa[i] = ap - l2;
     }
     st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2; st[o + 4] = r1; st[o + 5] = r2;
+  }
+
+  private withPre(xa: Float64Array, la: Float64Array, o: number, start: number, end: number): void {
+    const g = this.gain2, a1 = this.a1, a2 = this.a2, e1 = this.pre1, e2 = this.pre2;
+    const st = this.state;
+    let p1 = st[o], p2 = st[o + 1], q1 = st[o + 2], q2 = st[o + 3], r1 = st[o + 4], r2 = st[o + 5], z1 = st[o + 6], z2 = st[o + 7];
+    for (let i = start; i < end; i++) {
+      const v = xa[i];
+      const x = e2 * v + z1;
+      z1 = e1 * v + z2 - e1 * x;
+      z2 = v - e2 * x;
+      const gx = g * x;
+      const l1 = gx + p1;
+      p1 = gx + gx + p2 - a1 * l1;
+      p2 = gx - a2 * l1;
+      const l2 = l1 + q1;
+      q1 = l1 + l1 + q2 - a1 * l2;
+      q2 = l1 - a2 * l2;
+      const ap = a2 * x + r1;
+      r1 = a1 * x + r2 - a1 * ap;
+      r2 = x - a2 * ap;
+      la[i] = l2;
+      xa[i] = ap - l2;
+    }
+    st[o] = p1; st[o + 1] = p2; st[o + 2] = q1; st[o + 3] = q2; st[o + 4] = r1; st[o + 5] = r2; st[o + 6] = z1; st[o + 7] = z2;
   }
 }
 
@@ -172,17 +177,26 @@ export class BandSplitter {
       this.bands.push(Array.from({ length: channels }, () => new Float64Array(maxBlockFrames)));
     }
     const coeffs = crossoversHz.map((f) => designLinkwitzRiley4(f, sampleRate));
-    // Node over crossovers [lo, hi): its signal is in the buffer of its top band (hi).
-    const plan = (lo: number, hi: number): void => {
-      if (lo >= hi) return;
+    // Node over crossovers [lo, hi): its signal is in the buffer of its top
+    // band (hi) and still needs the all-passes `pending` (the crossovers of
+    // the other side of its parent split). The first one runs in the loop of
+    // the node's split; a band that is not split further takes them as
+    // passes of their own. (All-passes commute with the rest, so when they
+    // run does not matter.)
+    const range = (from: number, to: number): number[] => Array.from({ length: Math.max(0, to - from) }, (_, i) => from + i);
+    const plan = (lo: number, hi: number, pending: number[]): void => {
+      if (lo >= hi) {
+        for (const k of pending) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: hi });
+        return;
+      }
+      for (const k of pending.slice(1)) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: hi });
       const m = (lo + hi) >> 1;
-      this.steps.push({ kind: "split", split: new Lr4Split(coeffs[m], channels), band: hi, low: m });
-      for (let k = m + 1; k < hi; k++) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: m });
-      for (let k = lo; k < m; k++) this.steps.push({ kind: "allPass", filter: new PairedBiquad(coeffs[k].allPass, channels), band: hi });
-      plan(lo, m);
-      plan(m + 1, hi);
+      const pre = pending.length > 0 ? coeffs[pending[0]].allPass : null;
+      this.steps.push({ kind: "split", split: new Lr4Split(coeffs[m], channels, pre), band: hi, low: m });
+      plan(lo, m, range(m + 1, hi));
+      plan(m + 1, hi, range(lo, m));
     };
-    plan(0, crossoversHz.length);
+    plan(0, crossoversHz.length, []);
   }
 
   /** Splits `frames` frames of `input` (not modified) into `bands`. */
