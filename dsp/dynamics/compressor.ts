@@ -106,7 +106,14 @@ export class Compressor implements Processor, GainReductionSource {
       this.sidechain.processInto(input, this.sideBuffers, frames);
       detectIn = this.sideBuffers;
     }
-    this.detector.process(detectIn, frames, this.power);
+    const maxPower = this.detector.process(detectIn, frames, this.power);
+    if (!(maxPower > this.kneeStartPower) && this.smoother.atRest) {
+      // The whole block is below the knee and the envelopes are at 0: the
+      // reduction stays exactly 0 and the gain is the makeup gain.
+      if (mode === DETECT) grDb.fill(0, 0, frames);
+      else this.applyConstant(input, out, frames, mode);
+      return;
+    }
     this.reductionFromPower(this.power, frames, grDb);
     if (mode === DETECT) return;
     if (this.channels === 2) {
@@ -119,6 +126,15 @@ export class Compressor implements Processor, GainReductionSource {
       const x = input[c], y = out[c];
       if (mode === ADD) for (let i = 0; i < frames; i++) y[i] += x[i] * gain[i];
       else for (let i = 0; i < frames; i++) y[i] = x[i] * gain[i];
+    }
+  }
+
+  private applyConstant(input: Planar, out: Planar, frames: number, mode: number): void {
+    const g = this.makeupGain;
+    for (let c = 0; c < this.channels; c++) {
+      const x = input[c], y = out[c];
+      if (mode === ADD) for (let i = 0; i < frames; i++) y[i] += x[i] * g;
+      else for (let i = 0; i < frames; i++) y[i] = x[i] * g;
     }
   }
 

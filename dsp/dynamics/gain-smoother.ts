@@ -35,7 +35,7 @@ export class GainSmoother {
     const auto = releaseMs === "auto";
     this.attackCoeff = timeConstantCoeff(attackMs, sampleRate);
     this.releaseCoeff = timeConstantCoeff(auto ? AUTO_FAST_RELEASE_MS : (releaseMs as number), sampleRate);
-    // A coefficient of 1 keeps the envelope where it is: t + 1·(0 − t) = 0
+    // A coefficient of 1 keeps the envelope where it is: 1·0 + 0·t = 0
     // exactly, so with a fixed release the slow envelope stays 0 and
     // max(fast, slow) = fast, with no branch on the mode per frame.
     this.slowAttackCoeff = auto ? timeConstantCoeff(AUTO_SLOW_ATTACK_MS, sampleRate) : 1;
@@ -45,6 +45,11 @@ export class GainSmoother {
   reset(): void {
     this.fastDb = 0;
     this.slowDb = 0;
+  }
+
+  /** True when both envelopes are at 0: a block of zero targets then leaves them there and outputs zeros. */
+  get atRest(): boolean {
+    return this.fastDb === 0 && this.slowDb === 0;
   }
 
   /** One frame: target reduction (dB, ≥ 0) → smoothed reduction (dB). */
@@ -61,13 +66,17 @@ export class GainSmoother {
   process(targetDb: Float64Array, outDb: Float64Array, frames: number): number {
     const att = this.attackCoeff, rel = this.releaseCoeff;
     const slowAtt = this.slowAttackCoeff, slowRel = this.slowReleaseCoeff;
+    const att1 = 1 - att, rel1 = 1 - rel, slowAtt1 = 1 - slowAtt, slowRel1 = 1 - slowRel;
     let fast = this.fastDb, slow = this.slowDb;
     let max = 0;
     for (let i = 0; i < frames; i++) {
       const t = targetDb[i];
-      fast = t + (t > fast ? att : rel) * (fast - t);
+      // y = c·y + (1 − c)·t: the same one-pole as t + c·(y − t), with one
+      // operation less between one frame's y and the next (the loop's
+      // critical path).
+      fast = t > fast ? att * fast + att1 * t : rel * fast + rel1 * t;
       if (fast < FLUSH_BELOW_DB) fast = 0;
-      slow = t + (t > slow ? slowAtt : slowRel) * (slow - t);
+      slow = t > slow ? slowAtt * slow + slowAtt1 * t : slowRel * slow + slowRel1 * t;
       if (slow < FLUSH_BELOW_DB) slow = 0;
       const out = fast > slow ? fast : slow;
       outDb[i] = out;

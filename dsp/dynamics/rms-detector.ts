@@ -20,11 +20,16 @@ export class RmsDetector {
     this.meanSquare.fill(0);
   }
 
-  /** Writes the linked mean square (linear power) of each frame into `out`. */
-  process(channels: Float64Array[], frames: number, out: Float64Array): void {
+  /**
+   * Writes the linked mean square (linear power) of each frame into `out`;
+   * returns the block's largest (the compressor skips a block that stays
+   * below its knee).
+   */
+  process(channels: Float64Array[], frames: number, out: Float64Array): number {
     const a = this.coeff;
     const b = 1 - a;
     const ms = this.meanSquare;
+    let max = 0;
     if (channels.length === 2) {
       const l = channels[0], r = channels[1];
       let m0 = ms[0], m1 = ms[1];
@@ -32,10 +37,12 @@ export class RmsDetector {
         const x = l[i], y = r[i];
         m0 = a * m0 + b * x * x;
         m1 = a * m1 + b * y * y;
-        out[i] = m0 > m1 ? m0 : m1;
+        const m = m0 > m1 ? m0 : m1;
+        out[i] = m;
+        if (m > max) max = m;
       }
       ms[0] = m0; ms[1] = m1;
-      return;
+      return max;
     }
     out.fill(0, 0, frames);
     for (let c = 0; c < channels.length; c++) {
@@ -47,5 +54,7 @@ export class RmsDetector {
       }
       ms[c] = m;
     }
+    for (let i = 0; i < frames; i++) if (out[i] > max) max = out[i];
+    return max;
   }
 }
