@@ -2,16 +2,17 @@
 // e.g. a render against its own mix or two versions of a mix. The A/B player
 // (level-matched, one clock), a table of the two analyses, the traces of
 // both on one time axis (gain reduction per stage for renders; a mix has
-// none and shows its loudness line only) and, when both are renders, the
+// none and shows its loudness line only; zoomed to the player's loop on
+// request, `?zoom=`) and, when both are renders, the
 // chain parameters that differ; comments pinned to times, and the review
 // step: send A for review (staff), approve it or ask for changes (client).
 import { useState } from "react";
-import { Form, Link, useNavigation } from "react-router";
+import { Form, Link, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/compare";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff } from "../lib/roles.ts";
-import { alignTraces, type AlignedTraces } from "../lib/compare/traces.ts";
+import { alignTraces, formatZoom, parseZoom, type AlignedTraces } from "../lib/compare/traces.ts";
 import { labelChanges, type LabelledChange } from "../lib/compare/chain-changes.ts";
 import { choosePair } from "../lib/compare/sources.ts";
 import { reviewPageAction, type ReviewActionData } from "../lib/review/page-action.server.ts";
@@ -45,7 +46,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   let changes: LabelledChange[] | null = null;
   if (staff && a && b) {
     const [ta, tb] = await Promise.all([sourceTraces(a), sourceTraces(b)]);
-    if (ta && tb) aligned = alignTraces({ traces: ta, offsetS: a.offsetS }, { traces: tb, offsetS: b.offsetS }, { maxPoints: MAX_TRACE_POINTS, shared: true });
+    if (ta && tb) {
+      const sa = { traces: ta, offsetS: a.offsetS };
+      const sb = { traces: tb, offsetS: b.offsetS };
+      aligned = alignTraces(sa, sb, { maxPoints: MAX_TRACE_POINTS, shared: true });
+      // Zoomed to a region (the player's loop): the traces of that stretch alone, at up to the full grid's detail.
+      const zoom = parseZoom(url.searchParams.get("zoom"));
+      const startS = zoom && Math.max(zoom.startS, aligned.startS);
+      const endS = zoom && Math.min(zoom.endS, aligned.endS);
+      if (startS !== null && endS !== null && endS - startS >= 0.05) aligned = { ...alignTraces(sa, sb, { maxPoints: MAX_TRACE_POINTS, startS, endS }), zoomed: true };
+    }
     // What changed going from B's chain to A's; only two renders have chains to set side by side.
     if (a.render && b.render) changes = labelChanges(diffParams(b.render.params, a.render.params), b.render.params, a.render.params);
   }
@@ -85,7 +95,19 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
   const { release, track, staff, choices, a, b, analyses, review, comments, aligned, changes, sameChain } = loaderData;
   const [positionS, setPositionS] = useState<number | null>(null);
   const [commentTime, setCommentTime] = useState("");
+  const [loop, setLoop] = useState<{ startS: number; endS: number } | null>(null);
+  const [, setSearchParams] = useSearchParams();
   const busy = useNavigation().state !== "idle";
+  // The loader sends the zoomed stretch's traces; the player stays as it is (same sources, same key).
+  const zoomTo = (region: { startS: number; endS: number } | null) =>
+    setSearchParams(
+      (params) => {
+        if (region) params.set("zoom", formatZoom(region));
+        else params.delete("zoom");
+        return params;
+      },
+      { replace: true, preventScrollReset: true },
+    );
   const aRender = a?.type === "render" ? a : null;
   const underReview = aRender && review.underReviewRenderId === aRender.id;
   const error = (actionData as ReviewActionData | undefined)?.error;
@@ -156,6 +178,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
           comments={comments.map((c) => ({ id: c.id, timeS: c.timeS, body: c.body, resolved: c.resolvedAt !== null }))}
           onSeek={(t) => setCommentTime(formatClock(t))}
           onPositionChange={setPositionS}
+          onLoopChange={setLoop}
         />
       ) : (
         <p className="card p-4 text-sm text-ink-soft">
@@ -179,7 +202,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
               <h2 id="traces" className="mb-2 text-lg font-semibold">
                 Gain reduction and loudness
               </h2>
-              <TraceCharts aligned={aligned} positionS={positionS} labels={{ a: a.label, b: b.label }} processed={{ a: a.type === "render", b: b.type === "render" }} />
+              <TraceCharts aligned={aligned} positionS={positionS} labels={{ a: a.label, b: b.label }} processed={{ a: a.type === "render", b: b.type === "render" }} loop={loop} onZoom={zoomTo} />
             </section>
           )}
           {staff && changes && (

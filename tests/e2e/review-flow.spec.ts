@@ -190,6 +190,23 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   await expect(engineer.getByRole("table", { name: "Analyses of A and B" }).locator("tr[data-measure='integratedLufs'] [data-difference]")).toContainText("LU");
   await expect(enginePlayer).toHaveAttribute("data-loaded", "full");
   await shot(engineer, "compare-page-render-against-mix", testInfo);
+  // A loop dragged across the middle of the waveform; the traces zoom to it while the player plays on as it was.
+  const wave = (await enginePlayer.locator("canvas").boundingBox())!;
+  await engineer.mouse.move(wave.x + wave.width * 0.25, wave.y + wave.height / 2);
+  await engineer.mouse.down();
+  await engineer.mouse.move(wave.x + wave.width * 0.75, wave.y + wave.height / 2, { steps: 5 });
+  await engineer.mouse.up();
+  await expect(enginePlayer.getByTestId("loop-region")).toHaveText(/^Loop 0:02\.\d – 0:04\.\d$/);
+  const readyMs = await enginePlayer.getAttribute("data-ready-ms");
+  await engineer.getByRole("button", { name: "Zoom to the loop" }).click();
+  const charts = engineer.getByTestId("trace-charts");
+  await expect(charts).toHaveAttribute("data-zoomed", "true");
+  expect(Number(await charts.getAttribute("data-start-s"))).toBeCloseTo(2, 0);
+  expect(Number(await charts.getAttribute("data-end-s"))).toBeCloseTo(4, 0);
+  await expect(engineer).toHaveURL(/zoom=2\.\d+-4\.\d+/);
+  expect(await enginePlayer.getAttribute("data-ready-ms")).toBe(readyMs);
+  await engineer.getByRole("button", { name: "Show the whole span" }).click();
+  await expect(charts).toHaveAttribute("data-zoomed", "false");
 
   await sendFromRenderPage(engineer, first, `First pass of ${trackTitle}.`);
   const firstLink = await reviewLinkFromMail(CLIENT, `First pass of ${trackTitle}.`, seen);

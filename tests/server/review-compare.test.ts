@@ -97,6 +97,23 @@ describe("compare page", () => {
     expect(peak("A:s0:gr")).toBe(11);
     expect(peak("B:s0:gr")).toBe(11);
     expect(page.changes!.map((c) => [c.label, c.beforeText, c.afterText])).toEqual([["Stage 1 · limit · ceilingDbtp", "-1 dBTP", "-1.5 dBTP"]]);
+    // The shared span only: the preview's region.
+    expect([page.aligned!.startS, page.aligned!.endS]).toEqual([10, 12]);
+  });
+
+  it("zooms the traces to a region at the full grid's detail, and ignores a zoom that is not one", async () => {
+    const zoomed = (await load("engineer", `?a=${renders.preview}&b=${renders.print}&zoom=10.50-11.50`)) as Awaited<ReturnType<typeof loader>>;
+    expect(zoomed.aligned).toMatchObject({ zoomed: true, startS: 10.5, endS: 11.5, gridMs: 10 });
+    expect(zoomed.aligned!.rows).toHaveLength(100);
+    expect(zoomed.aligned!.rows.every((r) => r.timeS >= 10.5 && r.timeS < 11.5)).toBe(true);
+    expect(zoomed.aligned!.rows.find((r) => r["B:s0:gr"] === 4)?.timeS).toBe(11);
+    // Clamped to what both cover.
+    const wide = (await load("engineer", `?a=${renders.preview}&b=${renders.print}&zoom=5-11`)) as Awaited<ReturnType<typeof loader>>;
+    expect([wide.aligned!.startS, wide.aligned!.endS]).toEqual([10, 11]);
+    for (const bad of ["11-10", "x", "10-10.01"]) {
+      const page = (await load("engineer", `?a=${renders.preview}&b=${renders.print}&zoom=${bad}`)) as Awaited<ReturnType<typeof loader>>;
+      expect(page.aligned!.zoomed).toBeUndefined();
+    }
   });
 
   it("shows a client only renders sent to them, without traces, and lets them comment and give a verdict", async () => {

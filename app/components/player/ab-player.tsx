@@ -35,6 +35,8 @@ export type AbPlayerProps = {
   onCommentClick?: (comment: WaveformComment) => void;
   /** The position, at most four times a second while playing (for cursors elsewhere on the page). */
   onPositionChange?: (timeS: number) => void;
+  /** The loop region as it is set or cleared (e.g. to zoom the traces to it). */
+  onLoopChange?: (loop: Region | null) => void;
   initialLoop?: Region | null;
 };
 
@@ -57,7 +59,7 @@ const withChannels = (part: LoadedPart): Part => ({
 const isTyping = (target: EventTarget | null) =>
   target instanceof HTMLElement && (target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName));
 
-export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositionChange, initialLoop = null }: AbPlayerProps) {
+export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositionChange, onLoopChange, initialLoop = null }: AbPlayerProps) {
   const [status, setStatus] = useState<"loading" | "ready" | "error">("loading");
   const [error, setError] = useState<string | null>(null);
   const loadedRef = useRef<Loaded | null>(null);
@@ -77,6 +79,9 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
   const reported = useRef({ atMs: 0, timeS: -1 });
   const onPositionRef = useRef(onPositionChange);
   onPositionRef.current = onPositionChange;
+  const onLoopRef = useRef(onLoopChange);
+  onLoopRef.current = onLoopChange;
+  useEffect(() => onLoopRef.current?.(loop), [loop]);
 
   useEffect(() => {
     const now = performance.now();

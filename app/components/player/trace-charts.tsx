@@ -17,15 +17,36 @@ export type TraceChartsProps = {
   labels: { a: string; b: string };
   /** False for a mix: nothing processed it, so it has a loudness line and no gain reduction. */
   processed?: { a: boolean; b: boolean };
+  /** The player's loop, which the charts can zoom to; `onZoom(null)` shows the whole span again. */
+  loop?: { startS: number; endS: number } | null;
+  onZoom?: (region: { startS: number; endS: number } | null) => void;
 };
 
-export function TraceCharts({ aligned, positionS, labels, processed = { a: true, b: true } }: TraceChartsProps) {
+export function TraceCharts({ aligned, positionS, labels, processed = { a: true, b: true }, loop = null, onZoom }: TraceChartsProps) {
   if (aligned.rows.length === 0 || aligned.panels.length === 0) {
     return <p className="text-sm text-ink-soft">No traces were stored for these renders.</p>;
   }
   const domain: [number, number] = [aligned.startS, aligned.endS];
   return (
-    <div className="space-y-4" data-testid="trace-charts">
+    <div className="space-y-4" data-testid="trace-charts" data-zoomed={aligned.zoomed ? "true" : "false"} data-start-s={aligned.startS} data-end-s={aligned.endS}>
+      {onZoom && (
+        <p className="flex flex-wrap items-center gap-3 text-sm">
+          <span className="num text-ink-soft">
+            {aligned.zoomed ? "Zoomed to" : "Showing"} {formatClock(aligned.startS)} – {formatClock(aligned.endS)}
+          </span>
+          {loop && (
+            <button type="button" className="btn-quiet" onClick={() => onZoom(loop)}>
+              Zoom to the loop
+            </button>
+          )}
+          {aligned.zoomed && (
+            <button type="button" className="btn-quiet" onClick={() => onZoom(null)}>
+              Show the whole span
+            </button>
+          )}
+          {!loop && !aligned.zoomed && <span className="text-xs text-ink-soft">Drag across the waveform to loop a region, then zoom the traces to it.</span>}
+        </p>
+      )}
       <p className="text-xs text-ink-soft">
         <span className="mr-3 inline-block h-2 w-4 align-middle" style={{ background: A_COLOUR }} /> A · {labels.a}
         {!processed.a && <span data-testid="legend-a-unprocessed"> (no processing: loudness only)</span>}

@@ -33,7 +33,16 @@ export type TracePanel = { id: string; title: string; kind: SeriesInfo["kind"]; 
 
 export type TraceRow = { timeS: number } & Record<string, number | null>;
 
-export type AlignedTraces = { gridMs: number; startS: number; endS: number; series: SeriesInfo[]; panels: TracePanel[]; rows: TraceRow[] };
+export type AlignedTraces = {
+  gridMs: number;
+  startS: number;
+  endS: number;
+  series: SeriesInfo[];
+  panels: TracePanel[];
+  rows: TraceRow[];
+  /** True when limited to a zoom region rather than the whole shared span. */
+  zoomed?: boolean;
+};
 
 type Line = { info: SeriesInfo; values: readonly (number | null)[]; gridMs: number; offsetS: number };
 
@@ -106,6 +115,17 @@ export function alignTraces(a: TraceSource, b: TraceSource, options: { startS?: 
 }
 
 const round = (s: number) => Math.round(s * 1e6) / 1e6;
+
+/** A zoom region as the compare page's URL carries it, "12.5-20" (seconds on the mix axis); null when absent or not one. */
+export function parseZoom(text: string | null | undefined): { startS: number; endS: number } | null {
+  const m = /^(\d+(?:\.\d+)?)-(\d+(?:\.\d+)?)$/.exec(text ?? "");
+  if (!m) return null;
+  const startS = Number(m[1]);
+  const endS = Number(m[2]);
+  return Number.isFinite(startS) && Number.isFinite(endS) && endS - startS >= 0.05 ? { startS, endS } : null;
+}
+
+export const formatZoom = (zoom: { startS: number; endS: number }) => `${zoom.startS.toFixed(2)}-${zoom.endS.toFixed(2)}`;
 
 function panelsOf(series: SeriesInfo[]): TracePanel[] {
   const panels = new Map<string, TracePanel>();
