@@ -1,25 +1,20 @@
 // /releases/:releaseId/delivery — the release's delivery formats (the
-// studio's defaults until the release gets its own: adding, editing or
-// deleting a format copies the defaults in first), which tracks are approved
-// and which are left out and why, "Make deliveries" (every approved track's
-// approved print × every format, one queued job each), and the deliveries with
-// their state and warnings. Staff only: clients get their files from the
-// release page.
-//
-// Deleting a format (after a confirmation step) keeps the files already made
-// in it: they stay in storage and in the list here, marked, but leave the
-// package and the loudness report; its queued deliveries are dropped.
-import type { Knex } from "knex";
+// studio's defaults until the release gets its own), which tracks are
+// approved and which are left out and why, "Make deliveries" (every approved
+// track's approved print × every format, one queued job each), and the
+// deliveries with their state and warnings. Staff only: clients get their
+// files from the release page. Deleting a format has a confirmation step;
+// what becomes of its files is app/models/release-formats.server.ts.
 import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/release-delivery";
-import { checkDeliveryFormat, DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
+import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
-import { db } from "../lib/db.server.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
 import { STAFF } from "../lib/roles.ts";
 import { enqueueDelivery } from "../jobs/queue.server.ts";
-import { addFormat, queueReleaseDeliveries, releaseFormats, type StoredFormat } from "../models/delivery.server.ts";
+import { queueReleaseDeliveries, releaseFormats } from "../models/delivery.server.ts";
+import { deleteReleaseFormat, finishedFilesIn, hasOwnFormats, listReleaseDeliveries, saveReleaseFormat } from "../models/release-formats.server.ts";
 import { releaseDeliveryPlan } from "../models/delivery-plan.server.ts";
 import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
@@ -49,56 +44,27 @@ export const formatSchema = z.object({
 // A print is a few minutes; the job's time limit is sized for 10 minutes of audio.
 const ASSUMED_AUDIO_SECONDS = 600;
 
-type DeliveryListRow = { id: string; position: number; title: string; formatName: string; formatKept: boolean; state: string; warnings: string[] | null; error: string | null; createdAt: string };
-
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const [formats, own, rows, plan] = await Promise.all([
     releaseFormats(release.id),
-    db("delivery_formats").where({ release_id: release.id }).count<{ count: string }[]>("id as count"),
-    db("deliveries as d")
-      .join("tracks as t", "t.id", "d.track_id")
-      .where("d.release_id", release.id)
-      .orderBy([{ column: "d.created_at", order: "desc" }, { column: "t.position" }])
-      .limit(200)
-      .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), db.raw(`d.format_id IS NOT NULL AS "formatKept"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt"),
+    hasOwnFormats(release.id),
+    listReleaseDeliveries(release.id),
     releaseDeliveryPlan(release.id),
   ]);
   const search = new URL(request.url).searchParams;
   const deleting = formats.find((f) => f.id === search.get("delete")) ?? null;
-  const madeInDeleting = deleting ? Number((await db("deliveries").where({ format_id: deleting.id, release_id: release.id, state: "done" }).count<{ count: string }[]>("id as count"))[0]?.count ?? 0) : 0;
+  const madeInDeleting = deleting ? await finishedFilesIn(release.id, deleting.id) : 0;
   return {
     release: { id: release.id, title: release.title },
     editing: formats.find((f) => f.id === search.get("edit")) ?? null,
     deleting: deleting && { id: deleting.id, name: deleting.name, finishedFiles: madeInDeleting },
     formats,
-    ownFormats: Number(own[0]?.count ?? 0) > 0,
-    deliveries: rows as DeliveryListRow[],
+    ownFormats: own,
+    deliveries: rows,
     tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.sourceRenderId !== null, reason: p.reason })),
   };
 }
-
-/**
- * The release's own formats, inside the transaction: on the first change the
- * studio's defaults are copied in, and the release's deliveries made in a
- * default are moved to its copy (the same format), so nothing drops out of
- * the package. Returns the map from default id to copy id.
- */
-async function ownFormats(trx: Knex.Transaction, studioId: string, releaseId: string): Promise<Map<string, string>> {
-  const ids = new Map<string, string>();
-  const own = await trx("delivery_formats").where({ release_id: releaseId }).first("id");
-  if (own) return ids;
-  for (const d of await releaseFormats(releaseId, trx)) {
-    const copy = (await addFormat(studioId, releaseId, d, trx)).id;
-    ids.set(d.id, copy);
-    await trx("deliveries").where({ release_id: releaseId, format_id: d.id }).update({ format_id: copy });
-  }
-  return ids;
-}
-
-// Settings that change the sound of a print; a file made before such an edit no longer is a file of the format.
-const printsDiffer = (a: StoredFormat, b: { sampleRate: number; bitDepth: number | string; dither: string; ceilingDbtp: number; targetLufs?: number }) =>
-  a.sampleRate !== b.sampleRate || String(a.bitDepth) !== String(b.bitDepth) || a.dither !== b.dither || a.ceilingDbtp !== b.ceilingDbtp || (a.targetLufs ?? null) !== (b.targetLufs ?? null);
 
 type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number };
 const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, ...r }, { status });
@@ -115,18 +81,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (intent === "delete-format") {
     if (form.get("confirm") !== "yes") return reply({ intent, errors: { form: "Confirm the deletion." } }, 400);
     const formatId = String(form.get("formatId") ?? "");
-    const outcome = await db.transaction(async (trx) => {
-      const ids = await ownFormats(trx, user.studioId, release.id);
-      const id = ids.get(formatId) ?? formatId;
-      const format = await trx("delivery_formats").where({ id, release_id: release.id }).forUpdate().first("id");
-      if (!format) return "not-ours" as const;
-      const count = await trx("delivery_formats").where({ release_id: release.id }).count<{ count: string }[]>("id as count");
-      if (Number(count[0]?.count) <= 1) return "last" as const;
-      // Queued files are not made any more; finished ones keep their row and file (format_id becomes null).
-      await trx("deliveries").where({ format_id: id, state: "queued" }).delete();
-      await trx("delivery_formats").where({ id }).delete();
-      return "deleted" as const;
-    });
+    const outcome = await deleteReleaseFormat(user.studioId, release.id, formatId);
     if (outcome === "not-ours") return reply({ intent, errors: { form: "That format is not one of this release's." } }, 400);
     if (outcome === "last") return reply({ intent, errors: { form: "A release needs at least one format: add another before deleting this one." } }, 400);
     return redirect(`/releases/${release.id}/delivery`);
@@ -146,24 +101,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   };
   const editId = String(form.get("formatId") ?? "");
   try {
-    const found = await db.transaction(async (trx) => {
-      // The first change to the release's own list: the studio's defaults come along, so nothing is lost.
-      const ids = await ownFormats(trx, user.studioId, release.id);
-      if (!editId) {
-        await addFormat(user.studioId, release.id, format, trx);
-        return true;
-      }
-      checkDeliveryFormat(format);
-      const id = ids.get(editId) ?? editId;
-      const before = (await releaseFormats(release.id, trx)).find((f) => f.id === id);
-      if (!before) return false;
-      // Files made to the old settings leave the format (and the package) and stay listed; a new name alone keeps them.
-      if (printsDiffer(before, format)) await trx("deliveries").where({ format_id: id }).update({ format_id: null });
-      const updated = await trx("delivery_formats")
-        .where({ id, release_id: release.id })
-        .update({ name: format.name, sample_rate_hz: format.sampleRate, bit_depth: String(format.bitDepth), dither: format.dither, ceiling_dbtp: format.ceilingDbtp, target_lufs: format.targetLufs ?? null });
-      return updated === 1;
-    });
+    const found = await saveReleaseFormat(user.studioId, release.id, format, editId || null);
     if (!found) return reply({ intent, errors: { form: "That format is not one of this release's." }, values }, 400);
   } catch (error) {
     const message = (error as Error).message;
