@@ -2,7 +2,9 @@
 // two synthesized WAV files 6 dB apart are fetched, decoded and played on the
 // Web Audio API. Checks the monitoring notice before the first playback, the
 // level-matching gain, instant switching by key at the same position, the
-// loop chosen by dragging, and seeking from a comment marker. The page is
+// loop chosen by dragging, and seeking from a comment marker; with two 90 s
+// files, the progressive start (ready on the first 12 s, the rest swapped in
+// while playing, waiting at the end of what has loaded). The page is
 // served by Vite's dev server from a temporary folder (no app stylesheet, so
 // the checks rely on no styling).
 import { existsSync } from "node:fs";
