@@ -5,8 +5,9 @@
 // dB (or the program-dependent "auto" release) → makeup. The same gain is
 // applied to every channel, so the stereo image does not shift.
 // Speed: each step is one tight loop over the block (sidechain filter with
-// both channels in one loop, detector, static curve, smoothing, then gain
-// and audio for both channels in one loop); the level (dB) and the gain use
+// both channels in one loop, detector, static curve and smoothing, gain,
+// audio); a block below the knee with the envelopes at rest skips from the
+// detector straight to the makeup gain; the level (dB) and the gain use
 // fastLog2 / fastExp2 (dsp/fast-math.ts, errors below 1e-12 dB), the
 // per-frame logarithm and exponential having been most of the cost. (One
 // loop for detector and static curve together measured slower in V8.)
@@ -34,11 +35,6 @@ export interface CompressorSettings {
 const LOG2_POWER_TO_DB = 10 * Math.log10(2);
 const DB_TO_LOG2_GAIN = Math.log2(10) / 20;
 
-// What run() does with the gain.
-const DETECT = 0; // write the reduction (dB) per frame, leave the audio
-const SCALE = 1; // out = in · gain
-const ADD = 2; // out += in · gain
-
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
   readonly traceNames: readonly string[] = ["gr"];
@@ -47,7 +43,7 @@ export class Compressor implements Processor, GainReductionSource {
   private readonly sidechain: PairedBiquad | null;
   private readonly sideBuffers: Float64Array[];
   private readonly power: Float64Array;
-  private readonly gain: Float64Array;
+  private readonly gainBuffer: Float64Array;
   private readonly threshold: number;
   private readonly slope: number;
   private readonly knee: number;
@@ -68,7 +64,7 @@ export class Compressor implements Processor, GainReductionSource {
     this.sidechain = hp ? new PairedBiquad(designBiquad("highPass", { freqHz: hp, q: BUTTERWORTH_Q }, sampleRate), channels) : null;
     this.sideBuffers = this.sidechain ? Array.from({ length: channels }, () => new Float64Array(maxBlockFrames)) : [];
     this.power = new Float64Array(maxBlockFrames);
-    this.gain = new Float64Array(maxBlockFrames);
+    this.gainBuffer = new Float64Array(maxBlockFrames);
     this.threshold = settings.thresholdDb;
     this.slope = 1 - 1 / settings.ratio;
     this.knee = settings.kneeDb;
@@ -88,75 +84,39 @@ export class Compressor implements Processor, GainReductionSource {
 
   /** Gain reduction (dB, ≥ 0) per frame into `outDb`, no audio change. */
   detect(channels: Planar, frames: number, outDb: Float64Array): void {
-    this.run(channels, channels, frames, DETECT, outDb);
+    if (this.reduction(channels, frames, outDb)) outDb.fill(0, 0, frames);
+  }
+
+  /** Linear gain per frame (makeup included) into `out`, no audio change. */
+  gain(channels: Planar, frames: number, out: Float64Array): void {
+    if (this.reduction(channels, frames, out)) out.fill(this.makeupGain, 0, frames);
+    else this.toLinearGain(out, frames);
   }
 
   process(channels: Planar, frames: number): void {
-    this.run(channels, channels, frames, SCALE, this.gain);
+    const gain = this.gainBuffer;
+    this.gain(channels, frames, gain);
+    for (let c = 0; c < this.channels; c++) {
+      const x = channels[c];
+      for (let i = 0; i < frames; i++) x[i] *= gain[i];
+    }
   }
 
-  /** Compresses `input` and adds the result to `out` (multiband summing); `input` is left as is. */
-  processAdd(input: Planar, out: Planar, frames: number): void {
-    this.run(input, out, frames, ADD, this.gain);
-  }
-
-  private run(input: Planar, out: Planar, frames: number, mode: number, grDb: Float64Array): void {
+  /**
+   * Reduction (dB) per frame into `outDb`; returns true instead, leaving
+   * `outDb` alone, when the whole block stays below the knee with the
+   * envelopes at 0, so that the reduction is exactly 0 throughout.
+   */
+  private reduction(input: Planar, frames: number, outDb: Float64Array): boolean {
     let detectIn = input;
     if (this.sidechain) {
       this.sidechain.processInto(input, this.sideBuffers, frames);
       detectIn = this.sideBuffers;
     }
     const maxPower = this.detector.process(detectIn, frames, this.power);
-    if (!(maxPower > this.kneeStartPower) && this.smoother.atRest) {
-      // The whole block is below the knee and the envelopes are at 0: the
-      // reduction stays exactly 0 and the gain is the makeup gain.
-      if (mode === DETECT) grDb.fill(0, 0, frames);
-      else this.applyConstant(input, out, frames, mode);
-      return;
-    }
-    this.reductionFromPower(this.power, frames, grDb);
-    if (mode === DETECT) return;
-    if (this.channels === 2) {
-      this.applyStereo(grDb, input, out, frames, mode);
-      return;
-    }
-    const gain = this.gain;
-    this.toLinearGain(gain, frames);
-    for (let c = 0; c < this.channels; c++) {
-      const x = input[c], y = out[c];
-      if (mode === ADD) for (let i = 0; i < frames; i++) y[i] += x[i] * gain[i];
-      else for (let i = 0; i < frames; i++) y[i] = x[i] * gain[i];
-    }
-  }
-
-  private applyConstant(input: Planar, out: Planar, frames: number, mode: number): void {
-    const g = this.makeupGain;
-    for (let c = 0; c < this.channels; c++) {
-      const x = input[c], y = out[c];
-      if (mode === ADD) for (let i = 0; i < frames; i++) y[i] += x[i] * g;
-      else for (let i = 0; i < frames; i++) y[i] = x[i] * g;
-    }
-  }
-
-  /** Reduction (dB) → gain with makeup → both channels, one loop. */
-  private applyStereo(grDb: Float64Array, input: Planar, out: Planar, frames: number, mode: number): void {
-    const xl = input[0], xr = input[1], yl = out[0], yr = out[1];
-    const makeup = this.makeupDb, makeupGain = this.makeupGain;
-    let lastGr = 0, g = makeupGain;
-    for (let i = 0; i < frames; i++) {
-      const gr = grDb[i];
-      if (gr !== lastGr) {
-        lastGr = gr;
-        g = gr === 0 ? makeupGain : fastExp2((makeup - gr) * DB_TO_LOG2_GAIN);
-      }
-      if (mode === ADD) {
-        yl[i] += xl[i] * g;
-        yr[i] += xr[i] * g;
-      } else {
-        yl[i] = xl[i] * g;
-        yr[i] = xr[i] * g;
-      }
-    }
+    if (!(maxPower > this.kneeStartPower) && this.smoother.atRest) return true;
+    this.reductionFromPower(this.power, frames, outDb);
+    return false;
   }
 
   /** Static curve and smoothing for a block of detected power: reduction (dB) per frame into `out`. */

@@ -2,6 +2,9 @@
 // splitter (1–4 crossovers), one RMS compressor per band, bands summed.
 // Per band `bypass` (band passes uncompressed) and `solo` (when any band is
 // soloed only the soloed bands are summed, for listening).
+// Each band's compressor computes its gain per frame; one summing pass then
+// takes two bands at a time (out = b₀·g₀ + b₁·g₁, then out += b₂·g₂ + b₃·g₃),
+// instead of clearing the output and adding each band in a pass of its own.
 
 import { BandSplitter } from "../filters/crossover.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
@@ -25,6 +28,10 @@ export class MultibandCompressor implements Processor, GainReductionSource {
   private readonly audible: boolean[];
   private readonly one = new Float64Array(1);
   private readonly scratch: Float64Array;
+  /** gains[b]: band b's gain per frame (all 1 for a bypassed band). */
+  private readonly gains: Float64Array[];
+  /** The audible bands' indices, in order (the first `audibleCount` entries). */
+  private readonly order: Int32Array;
 
   constructor(sampleRate: number, readonly channels: number, settings: MultibandSettings, maxBlockFrames: number) {
     if (settings.bands.length !== settings.crossoversHz.length + 1) {
@@ -36,6 +43,8 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     this.audible = settings.bands.map((b) => !anySolo || !!b.solo);
     this.traceNames = settings.bands.map((_, i) => `band${i + 1}`);
     this.scratch = new Float64Array(maxBlockFrames);
+    this.gains = settings.bands.map(() => new Float64Array(maxBlockFrames).fill(1));
+    this.order = new Int32Array(settings.bands.length);
   }
 
   reset(): void {
@@ -45,20 +54,30 @@ export class MultibandCompressor implements Processor, GainReductionSource {
 
   process(channels: Planar, frames: number): void {
     this.splitter.split(channels, frames);
-    for (let c = 0; c < this.channels; c++) channels[c].fill(0, 0, frames);
     const bands = this.splitter.bands;
+    let audibleCount = 0;
     for (let b = 0; b < bands.length; b++) {
       const comp = this.compressors[b];
       if (this.audible[b]) {
-        if (comp) comp.processAdd(bands[b], channels, frames);
-        else {
-          for (let c = 0; c < this.channels; c++) {
-            const out = channels[c], band = bands[b][c];
-            for (let i = 0; i < frames; i++) out[i] += band[i];
-          }
-        }
-        // A muted (not soloed) band still runs its detector so its trace stays meaningful.
-      } else comp?.detect(bands[b], frames, this.scratch);
+        comp?.gain(bands[b], frames, this.gains[b]);
+        this.order[audibleCount++] = b;
+      } else comp?.detect(bands[b], frames, this.scratch); // a muted (not soloed) band keeps a meaningful trace
+    }
+    for (let c = 0; c < this.channels; c++) {
+      const out = channels[c];
+      if (audibleCount === 0) {
+        out.fill(0, 0, frames);
+        continue;
+      }
+      let k = 0;
+      for (; k + 1 < audibleCount; k += 2) {
+        const p = this.order[k], q = this.order[k + 1];
+        sumPair(out, bands[p][c], this.gains[p], bands[q][c], this.gains[q], frames, k > 0);
+      }
+      if (k < audibleCount) {
+        const p = this.order[k];
+        sumOne(out, bands[p][c], this.gains[p], frames, k > 0);
+      }
     }
   }
 
@@ -71,4 +90,16 @@ export class MultibandCompressor implements Processor, GainReductionSource {
       } else out[b] = 0;
     }
   }
+}
+
+/** out = (out +) x·g + y·h */
+function sumPair(out: Float64Array, x: Float64Array, g: Float64Array, y: Float64Array, h: Float64Array, frames: number, add: boolean): void {
+  if (add) for (let i = 0; i < frames; i++) out[i] += x[i] * g[i] + y[i] * h[i];
+  else for (let i = 0; i < frames; i++) out[i] = x[i] * g[i] + y[i] * h[i];
+}
+
+/** out = (out +) x·g */
+function sumOne(out: Float64Array, x: Float64Array, g: Float64Array, frames: number, add: boolean): void {
+  if (add) for (let i = 0; i < frames; i++) out[i] += x[i] * g[i];
+  else for (let i = 0; i < frames; i++) out[i] = x[i] * g[i];
 }
