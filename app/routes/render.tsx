@@ -104,10 +104,18 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
         eyebrow={release.title}
         title={title}
         actions={
-          staff && render.state === "done" && render.kind === "preview" ? (
-            <Link to={`${base}/renders/new?mix=${mix.id}&kind=print`} className="btn-quiet">
-              Render a print
-            </Link>
+          staff && render.state === "done" ? (
+            <>
+              {/* Before and after, level-matched: the master against the mix it was made from. */}
+              <Link to={`${base}/compare?a=render:${render.id}&b=mix:${mix.id}`} className="btn-quiet">
+                Compare with its mix
+              </Link>
+              {render.kind === "preview" && (
+                <Link to={`${base}/renders/new?mix=${mix.id}&kind=print`} className="btn-quiet">
+                  Render a print
+                </Link>
+              )}
+            </>
           ) : undefined
         }
       />

@@ -64,6 +64,14 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
         </Link>{" "}
         <span className="text-ink-soft">for scripts that use the Tidemark API as you.</span>
       </p>
+      {loaderData.owner && (
+        <p className="mt-2 text-sm">
+          <Link to="/settings/billing" className="text-accent-deep underline-offset-4 hover:underline">
+            Rates and streaming references
+          </Link>{" "}
+          <span className="text-ink-soft">for invoices and the loudness report.</span>
+        </p>
+      )}
     </>
   );
 }
