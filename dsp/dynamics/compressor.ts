@@ -8,7 +8,7 @@
 // both channels in one loop, detector, static curve and smoothing, gain,
 // audio); a block below the knee with the envelopes at rest skips from the
 // detector straight to the makeup gain; the level (dB) and the gain use
-// fastLog2 / fastExp2 (dsp/fast-math.ts, errors below 1e-12 dB), the
+// fastLog2 / fastExp2 (dsp/fast-math.ts, errors around 1e-12 dB), the
 // per-frame logarithm and exponential having been most of the cost. (One
 // loop for detector and static curve together measured slower in V8.)
 
