@@ -5,6 +5,8 @@
 // a sine's RMS through a static curve depends only on its peak) at
 // REFERENCE_PEAK_DB, so `blend` changes colour, not loudness, at that level.
 // The dry path is delayed by the oversampler's latency so the two line up.
+// 2× runs as one fused pass (Saturate2x: same filters, same curve); 4× goes
+// through the Oversampler's buffers.
 
 import type { Planar, Processor } from "../processor.ts";
 import { dbToLinear } from "../units.ts";
