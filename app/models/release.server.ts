@@ -3,6 +3,7 @@
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { isUuid } from "../lib/ids.ts";
+import { keysetPage, type Page } from "../lib/keyset.server.ts";
 import { isStaff } from "../lib/roles.ts";
 import type { ReleaseInput, ReleaseKind, ReleaseStatus } from "../schemas/release.ts";
 import type { CurrentUser } from "./user.server.ts";
@@ -36,7 +37,7 @@ function scopeTo(query: Knex.QueryBuilder, user: CurrentUser): Knex.QueryBuilder
   return query;
 }
 
-export async function listReleasesForUser(user: CurrentUser, filter: { status?: ReleaseStatus } = {}): Promise<ReleaseRow[]> {
+export async function listReleasesForUser(user: CurrentUser, filter: { status?: ReleaseStatus } = {}, page?: Page): Promise<ReleaseRow[]> {
   const query = db("releases as r")
     .join("clients as c", "c.id", "r.client_id")
     .select(
@@ -52,6 +53,7 @@ export async function listReleasesForUser(user: CurrentUser, filter: { status?: 
     .orderBy("r.created_at", "desc");
   scopeTo(query, user);
   if (filter.status) query.where("r.status", filter.status);
+  if (page) keysetPage(query, page, { table: "releases", at: "r.created_at", id: "r.id", column: "created_at" });
   return query;
 }
 

@@ -6,6 +6,7 @@ import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { cancelJob, enqueueRender, queueSettings } from "../jobs/queue.server.ts";
 import { rendersWithRelease, whereRenderVisible, type RenderViewer } from "../lib/render-visibility.server.ts";
+import { keysetPage, type Page } from "../lib/keyset.server.ts";
 import { PREVIEW_WINDOW_S, type RenderResult } from "../../dsp/render/render-file.ts";
 
 export type RenderState = "queued" | "running" | "done" | "failed" | "cancelled";
@@ -173,12 +174,13 @@ export async function getRenderStatus(id: string): Promise<RenderStatus | undefi
 
 /** A track's renders over all its mix versions, newest first. */
 /** A track's renders, newest first; with a viewer, only those the visibility rule lets them see. */
-export async function listRendersForTrack(trackId: string, viewer?: RenderViewer): Promise<(Render & { mixVersion: number })[]> {
+export async function listRendersForTrack(trackId: string, viewer?: RenderViewer, page?: Page): Promise<(Render & { mixVersion: number })[]> {
   const query = rendersWithRelease()
     .where({ "m.track_id": trackId })
     .orderBy("rd.queued_at", "desc")
     .select<(RenderRow & { mix_version: number })[]>("rd.*", "m.version as mix_version");
   if (viewer) whereRenderVisible(query, viewer);
+  if (page) keysetPage(query, page, { table: "renders", at: "rd.queued_at", id: "rd.id", column: "queued_at" });
   const rows = await query;
   return rows.map((row) => ({ ...renderFromRow(row), mixVersion: row.mix_version }));
 }

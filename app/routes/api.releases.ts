@@ -1,7 +1,8 @@
-// GET /api/releases: the releases the caller may see. POST: a new release (staff).
+// GET /api/releases[?limit=&after=]: the releases the caller may see, newest first, a page at a time. POST: a new release (staff).
 import type { Route } from "./+types/api.releases";
 import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
 import { STAFF } from "../lib/roles.ts";
+import { assertCursor, pageOf, parsePage } from "../lib/api-paging.server.ts";
 import { clientInStudio } from "../models/client.server.ts";
 import { createRelease, getReleaseForUser, listReleasesForUser } from "../models/release.server.ts";
 import { apiReleaseSchema } from "../schemas/api.ts";
@@ -12,8 +13,10 @@ export async function loader({ request }: Route.LoaderArgs) {
     const user = await requireApiUser(request);
     const status = new URL(request.url).searchParams.get("status");
     if (status && !RELEASE_STATUSES.includes(status as ReleaseStatus)) return apiError(400, "Unknown status", { status: `must be one of ${RELEASE_STATUSES.join(", ")}` });
-    const releases = await listReleasesForUser(user, status ? { status: status as ReleaseStatus } : {});
-    return json({ releases });
+    const page = parsePage(new URL(request.url));
+    await assertCursor("releases", page);
+    const { items, nextAfter } = pageOf(await listReleasesForUser(user, status ? { status: status as ReleaseStatus } : {}, page), page);
+    return json({ releases: items, nextAfter });
   });
 }
 

@@ -1,10 +1,11 @@
-// GET /api/renders?trackId=…: a track's renders the caller may see, newest first
+// GET /api/renders?trackId=…[&limit=&after=]: a track's renders the caller may see, newest first, a page at a time
 // (a client: those sent for review; app/lib/render-visibility.server.ts).
 // POST: queue a render of a mix through a chain revision (staff).
 import type { Route } from "./+types/api.renders";
 import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
 import { mixFor, revisionForTrack, trackFor } from "../lib/api-access.server.ts";
 import { renderView } from "../lib/api-views.server.ts";
+import { assertCursor, pageOf, parsePage } from "../lib/api-paging.server.ts";
 import { STAFF } from "../lib/roles.ts";
 import { createRender, listRendersForTrack } from "../models/render.server.ts";
 import { apiRenderSchema } from "../schemas/api.ts";
@@ -14,9 +15,11 @@ export async function loader({ request }: Route.LoaderArgs) {
     const user = await requireApiUser(request);
     const trackId = new URL(request.url).searchParams.get("trackId");
     if (!trackId) return apiError(400, "Name the track", { trackId: "is required (?trackId=…)" });
+    const page = parsePage(new URL(request.url));
     const { track } = await trackFor(user, trackId);
-    const renders = await listRendersForTrack(track.id, user);
-    return json({ renders: renders.map((r) => ({ ...renderView(r), mixVersion: r.mixVersion })) });
+    await assertCursor("renders", page);
+    const { items, nextAfter } = pageOf(await listRendersForTrack(track.id, user, page), page);
+    return json({ renders: items.map((r) => ({ ...renderView(r), mixVersion: r.mixVersion })), nextAfter });
   });
 }
 
