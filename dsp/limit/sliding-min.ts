@@ -1,29 +1,31 @@
-// Running minimum over the last `length` values (monotonic deque in a ring
-// buffer): O(1) amortised per value, no allocation after construction.
-// The ring's size is a power of two (index by mask) and pushBlock keeps the
-// deque's state in locals for a whole block: the limiter runs it per frame.
+// Running minimum over the last `length` values (van Herk / Gil-Werman):
+// the stream is cut into segments of `length` values. Within the current
+// segment a prefix minimum runs; of the segment before it, the suffix minima
+// are kept. The window ending at position p of the current segment is the
+// previous segment's values after p plus the current ones up to p, so its
+// minimum is min(suffix[p + 1], prefix). About three comparisons a value,
+// and all of them predictable (a prefix minimum rarely changes, and the
+// final comparison flips once a segment), where a monotonic deque's pops
+// depend on the data: the limiter runs this per frame. No allocation after
+// construction; pushBlock keeps the state in locals for a whole block.
 
 export class SlidingMin {
-  private readonly values: Float64Array;
-  private readonly stamps: Float64Array; // the count at which each value came in
-  private readonly mask: number;
-  private head = 0;
-  private size = 0;
-  private count = 0;
+  private readonly segment: Float64Array; // the current segment's values so far
+  private readonly suffix: Float64Array; // suffix minima of the previous segment; suffix[length] = +∞
+  private pos = 0;
+  private prefix = Infinity;
   private readonly scratch = new Float64Array(1);
 
   constructor(readonly length: number) {
-    let cap = 1;
-    while (cap < length + 1) cap *= 2;
-    this.values = new Float64Array(cap);
-    this.stamps = new Float64Array(cap);
-    this.mask = cap - 1;
+    this.segment = new Float64Array(length);
+    this.suffix = new Float64Array(length + 1);
+    this.reset();
   }
 
   reset(): void {
-    this.head = 0;
-    this.size = 0;
-    this.count = 0;
+    this.suffix.fill(Infinity);
+    this.pos = 0;
+    this.prefix = Infinity;
   }
 
   /** Adds a value and returns the minimum of the last `length` values. */
@@ -36,26 +38,27 @@ export class SlidingMin {
 
   /** out[i] = minimum of the last `length` values up to and including input[i] (out may be input). */
   pushBlock(input: Float64Array, out: Float64Array, n: number): void {
-    const values = this.values, stamps = this.stamps, mask = this.mask, length = this.length;
-    let head = this.head, size = this.size, count = this.count;
+    const segment = this.segment, suffix = this.suffix, length = this.length;
+    let pos = this.pos, prefix = this.prefix;
     for (let i = 0; i < n; i++) {
       const v = input[i];
-      // Drop larger values from the back: they can never be the minimum again.
-      while (size > 0 && values[(head + size - 1) & mask] >= v) size--;
-      const slot = (head + size) & mask;
-      values[slot] = v;
-      stamps[slot] = count;
-      size++;
-      // Drop the front when it falls out of the window.
-      if (stamps[head] <= count - length) {
-        head = (head + 1) & mask;
-        size--;
+      segment[pos] = v;
+      if (v < prefix) prefix = v;
+      const older = suffix[pos + 1];
+      out[i] = older < prefix ? older : prefix;
+      if (++pos === length) {
+        // The segment is complete: its suffix minima serve the next one.
+        let m = Infinity;
+        for (let k = length - 1; k >= 0; k--) {
+          const s = segment[k];
+          if (s < m) m = s;
+          suffix[k] = m;
+        }
+        pos = 0;
+        prefix = Infinity;
       }
-      count++;
-      out[i] = values[head];
     }
-    this.head = head;
-    this.size = size;
-    this.count = count;
+    this.pos = pos;
+    this.prefix = prefix;
   }
 }
