@@ -4,6 +4,8 @@ import { gainReductionDb } from "./gain-computer.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
 import { whiteNoise } from "../../bench/signals.ts";
+import { Biquad } from "../filters/biquad.ts";
+import { BUTTERWORTH_Q, designBiquad } from "../filters/biquad-design.ts";
 import { sine } from "./dynamics.test-util.ts";
 
 const FS = 48000;
@@ -88,6 +90,35 @@ describe("time constants (analytic one-pole step response: 1 − 1/e at τ)", ()
     for (const n of [0, 10, 959, 960, 2000, 4799]) expect(out[n]).toBeCloseTo(0.25 * (1 - a ** (n + 1)), 12);
     // At t = τ (960 frames) the mean square is 1 − 1/e of the final value (max of the two channels).
     expect(Math.abs(out[959] / 0.25 - (1 - 1 / Math.E))).toBeLessThan(0.001);
+  });
+});
+
+describe("RMS detector with its sidechain high-pass (reference: Biquad, the RBJ cookbook high-pass, then the plain detector)", () => {
+  it("equals filtering first and detecting after, exactly, for mono and stereo and any block size; silence leaves exact zeros", () => {
+    const hp = designBiquad("highPass", { freqHz: 90, q: BUTTERWORTH_Q }, FS);
+    for (const channels of [1, 2]) {
+      const input = [whiteNoise(6000, 41), whiteNoise(6000, 42)].slice(0, channels);
+      const filtered = input.map((x) => x.slice());
+      new Biquad(hp, channels).process(filtered, 6000);
+      const ref = new Float64Array(6000);
+      new RmsDetector(FS, channels, 20).process(filtered, 6000, ref);
+      for (const block of [1, 137, 6000]) {
+        const d = new RmsDetector(FS, channels, 20, 90);
+        const out = new Float64Array(6000);
+        for (let s = 0; s < 6000; s += block) {
+          const n = Math.min(block, 6000 - s);
+          d.process(input.map((x) => x.subarray(s, s + n)), n, out.subarray(s, s + n));
+        }
+        expect(out).toEqual(ref);
+      }
+    }
+    // An impulse, then silence: the filter state is flushed, the mean square decays to exact 0.
+    const d = new RmsDetector(FS, 2, 5, 90);
+    const l = new Float64Array(FS * 4), r = new Float64Array(FS * 4);
+    l[0] = 1;
+    const out = new Float64Array(FS * 4);
+    d.process([l, r], FS * 4, out);
+    expect(out[FS * 4 - 1]).toBe(0);
   });
 });
 

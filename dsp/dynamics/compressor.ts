@@ -4,16 +4,13 @@
 // mean squares) → static curve with soft knee → attack/release smoothing in
 // dB (or the program-dependent "auto" release) → makeup. The same gain is
 // applied to every channel, so the stereo image does not shift.
-// Speed: each step is one tight loop over the block (sidechain filter with
-// both channels in one loop, detector, static curve and smoothing, gain,
-// audio); a block below the knee with the envelopes at rest skips from the
+// Speed: each step is one tight loop over the block (sidechain filter and
+// detector for both channels, static curve and smoothing, gain, audio); a block below the knee with the envelopes at rest skips from the
 // detector straight to the makeup gain; the level (dB) and the gain use
 // fastLog2 / fastExp2 (dsp/fast-math.ts, errors around 1e-12 dB), the
 // per-frame logarithm and exponential having been most of the cost. (One
 // loop for detector and static curve together measured slower in V8.)
 
-import { designBiquad, BUTTERWORTH_Q } from "../filters/biquad-design.ts";
-import { PairedBiquad } from "../filters/paired-biquad.ts";
 import { fastExp2, fastLog2 } from "../fast-math.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import { GainSmoother } from "./gain-smoother.ts";
@@ -40,8 +37,6 @@ export class Compressor implements Processor, GainReductionSource {
   readonly traceNames: readonly string[] = ["gr"];
   private readonly detector: RmsDetector;
   private readonly smoother: GainSmoother;
-  private readonly sidechain: PairedBiquad | null;
-  private readonly sideBuffers: Float64Array[];
   private readonly power: Float64Array;
   private readonly gainBuffer: Float64Array;
   private readonly threshold: number;
@@ -58,11 +53,8 @@ export class Compressor implements Processor, GainReductionSource {
     settings: CompressorSettings,
     maxBlockFrames: number,
   ) {
-    this.detector = new RmsDetector(sampleRate, channels, settings.rmsWindowMs);
+    this.detector = new RmsDetector(sampleRate, channels, settings.rmsWindowMs, settings.sidechainHighPassHz ?? null);
     this.smoother = new GainSmoother(sampleRate, settings.attackMs, settings.releaseMs);
-    const hp = settings.sidechainHighPassHz;
-    this.sidechain = hp ? new PairedBiquad(designBiquad("highPass", { freqHz: hp, q: BUTTERWORTH_Q }, sampleRate), channels) : null;
-    this.sideBuffers = this.sidechain ? Array.from({ length: channels }, () => new Float64Array(maxBlockFrames)) : [];
     this.power = new Float64Array(maxBlockFrames);
     this.gainBuffer = new Float64Array(maxBlockFrames);
     this.threshold = settings.thresholdDb;
@@ -78,7 +70,6 @@ export class Compressor implements Processor, GainReductionSource {
   reset(): void {
     this.detector.reset();
     this.smoother.reset();
-    this.sidechain?.reset();
     this.maxReductionDb = 0;
   }
 
@@ -108,12 +99,7 @@ export class Compressor implements Processor, GainReductionSource {
    * envelopes at 0, so that the reduction is exactly 0 throughout.
    */
   private reduction(input: Planar, frames: number, outDb: Float64Array): boolean {
-    let detectIn = input;
-    if (this.sidechain) {
-      this.sidechain.processInto(input, this.sideBuffers, frames);
-      detectIn = this.sideBuffers;
-    }
-    const maxPower = this.detector.process(detectIn, frames, this.power);
+    const maxPower = this.detector.process(input, frames, this.power);
     if (!(maxPower > this.kneeStartPower) && this.smoother.atRest) return true;
     this.reductionFromPower(this.power, frames, outDb);
     return false;
