@@ -88,7 +88,7 @@ export class TruePeakDetector {
     this.phases = designTruePeakPhases(this.factor);
     this.boundGain = Math.max(1, ...this.phases.map((c) => c.reduce((s, v) => s + Math.abs(v), 0))) * (1 + 1e-9);
     this.maxBlockFrames = maxBlockFrames;
-    // +1: the 4× kernel's last iteration of an odd range reads one frame past it.
+    // +1: the kernels' last iteration of an odd range reads one frame past it.
     this.hist = Array.from({ length: channels }, () => new Float64Array(this.history + maxBlockFrames + 1));
     this.scratch = new Float64Array(CHUNK_FRAMES);
   }
@@ -254,32 +254,37 @@ function peaks4x(hl: Float64Array, hr: Float64Array, p1: Float64Array, p2: Float
   }
 }
 
-/** The 2× case for a pair of channels: its one phase is a half-sample delay with symmetric taps (c[k] = c[23 − k]). */
+/** The 2× case for a pair of channels: its one phase is a half-sample delay with symmetric taps (c[k] = c[23 − k]); two frames per iteration as in peaks4x. */
 function peaks2x(hl: Float64Array, hr: Float64Array, c: Float64Array, start: number, end: number, out: Float64Array, shift: number, accumulate: boolean): void {
   const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5];
   const c6 = c[6], c7 = c[7], c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11];
   const abs = Math.abs;
-  for (let n = start; n < end; n++) {
+  for (let n = start; n < end; n += 2) {
     // x[n − k] is at h[n + 23 − k]; the phase-0 sample (frame n − 12) at h[n + 11].
-    let x = hl[n + 11];
-    let y =
-      c0 * (hl[n + 23] + hl[n]) + c1 * (hl[n + 22] + hl[n + 1]) + c2 * (hl[n + 21] + hl[n + 2]) +
-      (c3 * (hl[n + 20] + hl[n + 3]) + c4 * (hl[n + 19] + hl[n + 4]) + c5 * (hl[n + 18] + hl[n + 5])) +
-      (c6 * (hl[n + 17] + hl[n + 6]) + c7 * (hl[n + 16] + hl[n + 7]) + c8 * (hl[n + 15] + hl[n + 8])) +
-      (c9 * (hl[n + 14] + hl[n + 9]) + c10 * (hl[n + 13] + hl[n + 10]) + c11 * (hl[n + 12] + x));
-    const wl = abs(x + y) + abs(x - y); // 2·max(|x|, |y|)
-    x = hr[n + 11];
-    y =
-      c0 * (hr[n + 23] + hr[n]) + c1 * (hr[n + 22] + hr[n + 1]) + c2 * (hr[n + 21] + hr[n + 2]) +
-      (c3 * (hr[n + 20] + hr[n + 3]) + c4 * (hr[n + 19] + hr[n + 4]) + c5 * (hr[n + 18] + hr[n + 5])) +
-      (c6 * (hr[n + 17] + hr[n + 6]) + c7 * (hr[n + 16] + hr[n + 7]) + c8 * (hr[n + 15] + hr[n + 8])) +
-      (c9 * (hr[n + 14] + hr[n + 9]) + c10 * (hr[n + 13] + hr[n + 10]) + c11 * (hr[n + 12] + x));
-    const wr = abs(x + y) + abs(x - y);
-    let m = 0.25 * (abs(wl + wr) + abs(wl - wr)) * OVER_READ;
+    const a0 = hl[n], a1 = hl[n + 1], a2 = hl[n + 2], a3 = hl[n + 3], a4 = hl[n + 4], a5 = hl[n + 5], a6 = hl[n + 6], a7 = hl[n + 7], a8 = hl[n + 8], a9 = hl[n + 9], a10 = hl[n + 10], a11 = hl[n + 11], a12 = hl[n + 12], a13 = hl[n + 13], a14 = hl[n + 14], a15 = hl[n + 15], a16 = hl[n + 16], a17 = hl[n + 17], a18 = hl[n + 18], a19 = hl[n + 19], a20 = hl[n + 20], a21 = hl[n + 21], a22 = hl[n + 22], a23 = hl[n + 23], a24 = hl[n + 24];
+    const b0 = hr[n], b1 = hr[n + 1], b2 = hr[n + 2], b3 = hr[n + 3], b4 = hr[n + 4], b5 = hr[n + 5], b6 = hr[n + 6], b7 = hr[n + 7], b8 = hr[n + 8], b9 = hr[n + 9], b10 = hr[n + 10], b11 = hr[n + 11], b12 = hr[n + 12], b13 = hr[n + 13], b14 = hr[n + 14], b15 = hr[n + 15], b16 = hr[n + 16], b17 = hr[n + 17], b18 = hr[n + 18], b19 = hr[n + 19], b20 = hr[n + 20], b21 = hr[n + 21], b22 = hr[n + 22], b23 = hr[n + 23], b24 = hr[n + 24];
+    const yl0 = c0 * (a23 + a0) + c1 * (a22 + a1) + c2 * (a21 + a2) + (c3 * (a20 + a3) + c4 * (a19 + a4) + c5 * (a18 + a5)) + (c6 * (a17 + a6) + c7 * (a16 + a7) + c8 * (a15 + a8)) + (c9 * (a14 + a9) + c10 * (a13 + a10) + c11 * (a12 + a11));
+    const wl0 = abs(a11 + yl0) + abs(a11 - yl0); // 2·max(|x|, |y|)
+    const yl1 = c0 * (a24 + a1) + c1 * (a23 + a2) + c2 * (a22 + a3) + (c3 * (a21 + a4) + c4 * (a20 + a5) + c5 * (a19 + a6)) + (c6 * (a18 + a7) + c7 * (a17 + a8) + c8 * (a16 + a9)) + (c9 * (a15 + a10) + c10 * (a14 + a11) + c11 * (a13 + a12));
+    const wl1 = abs(a12 + yl1) + abs(a12 - yl1); // 2·max(|x|, |y|)
+    const yr0 = c0 * (b23 + b0) + c1 * (b22 + b1) + c2 * (b21 + b2) + (c3 * (b20 + b3) + c4 * (b19 + b4) + c5 * (b18 + b5)) + (c6 * (b17 + b6) + c7 * (b16 + b7) + c8 * (b15 + b8)) + (c9 * (b14 + b9) + c10 * (b13 + b10) + c11 * (b12 + b11));
+    const wr0 = abs(b11 + yr0) + abs(b11 - yr0); // 2·max(|x|, |y|)
+    const yr1 = c0 * (b24 + b1) + c1 * (b23 + b2) + c2 * (b22 + b3) + (c3 * (b21 + b4) + c4 * (b20 + b5) + c5 * (b19 + b6)) + (c6 * (b18 + b7) + c7 * (b17 + b8) + c8 * (b16 + b9)) + (c9 * (b15 + b10) + c10 * (b14 + b11) + c11 * (b13 + b12));
+    const wr1 = abs(b12 + yr1) + abs(b12 - yr1); // 2·max(|x|, |y|)
+
+    let m = 0.25 * (abs(wl0 + wr0) + abs(wl0 - wr0)) * OVER_READ;
     if (accumulate) {
       const o = out[n + shift];
       m = 0.5 * (abs(m + o) + abs(m - o)) * OVER_READ;
     }
     out[n + shift] = m;
+    if (n + 1 < end) {
+      m = 0.25 * (abs(wl1 + wr1) + abs(wl1 - wr1)) * OVER_READ;
+      if (accumulate) {
+        const o = out[n + 1 + shift];
+        m = 0.5 * (abs(m + o) + abs(m - o)) * OVER_READ;
+      }
+      out[n + 1 + shift] = m;
+    }
   }
 }
