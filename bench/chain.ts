@@ -10,7 +10,7 @@
 
 import { spawnSync } from "node:child_process";
 import { mkdtempSync, rmSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { loadavg, tmpdir } from "node:os";
 import { join } from "node:path";
 import { pathToFileURL } from "node:url";
 import { buildChain } from "../dsp/chain/build-chain.ts";
@@ -122,7 +122,8 @@ function calibrationNs(): number {
 }
 
 export async function run(): Promise<void> {
-  console.log(`machine: ${calibrationNs().toFixed(2)} ns per multiply-add in a plain loop (≈0.3–1 on an idle modern core)`);
+  // The machine may be shared: the load beside the calibration says how much the figures below are worth.
+  console.log(`machine: ${calibrationNs().toFixed(2)} ns per multiply-add in a plain loop (≈0.3–1 on an idle modern core), load average ${loadavg().map((l) => l.toFixed(1)).join(" ")}`);
   const dir = mkdtempSync(join(tmpdir(), "tidemark-bench-"));
   try {
     const input = join(dir, "in.wav");
