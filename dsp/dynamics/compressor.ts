@@ -31,6 +31,8 @@ export interface CompressorSettings {
 // 10·log10(2): log2 of a power → dB; log2(10)/20: gain dB → log2 of the gain.
 const LOG2_POWER_TO_DB = 10 * Math.log10(2);
 const DB_TO_LOG2_GAIN = Math.log2(10) / 20;
+/** The smallest normal double: fastLog2's domain starts here. */
+const MIN_NORMAL = 2 ** -1022;
 
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
@@ -62,9 +64,8 @@ export class Compressor implements Processor, GainReductionSource {
     this.knee = settings.kneeDb;
     this.makeupDb = settings.makeupDb;
     this.makeupGain = 10 ** (this.makeupDb / 20);
-    // Below this power the target is 0 and the logarithm is skipped. At least
-    // the smallest normal double: fastLog2 needs a normal number.
-    this.kneeStartPower = Math.max(10 ** ((this.threshold - this.knee / 2) / 10), 2 ** -1022);
+    // A block whose power stays at or below this has no reduction at all.
+    this.kneeStartPower = 10 ** ((this.threshold - this.knee / 2) / 10);
   }
 
   reset(): void {
@@ -107,21 +108,16 @@ export class Compressor implements Processor, GainReductionSource {
 
   /** Static curve and smoothing for a block of detected power: reduction (dB) per frame into `out`. */
   private reductionFromPower(power: Float64Array, frames: number, out: Float64Array): void {
-    const t = this.threshold, slope = this.slope, hw = this.knee / 2, kneeScale = this.slope / (2 * this.knee);
-    const kneeStartPower = this.kneeStartPower;
+    const t = this.threshold, slope = this.slope, w = this.knee, hw = w / 2;
+    const kneeScale = w > 0 ? slope / (2 * w) : 0;
     for (let i = 0; i < frames; i++) {
-      const p = power[i];
-      let target = 0;
-      if (p > kneeStartPower) {
-        const over = fastLog2(p) * LOG2_POWER_TO_DB - t;
-        if (over > -hw) {
-          if (over < hw) {
-            const k = over + hw;
-            target = kneeScale * k * k;
-          } else target = over * slope;
-        }
-      }
-      out[i] = target;
+      // The static curve of gain-computer.ts without branches (they cost
+      // more than they save in V8): with x = over + W/2 clamped to [0, W],
+      // slope·x²/(2W) is 0 below the knee, the quadratic inside it and
+      // slope·W/2 above it, where slope·(over − W/2) adds the rest.
+      const over = fastLog2(Math.max(power[i], MIN_NORMAL)) * LOG2_POWER_TO_DB - t;
+      const x = Math.min(Math.max(over + hw, 0), w);
+      out[i] = kneeScale * x * x + slope * Math.max(over - hw, 0);
     }
     const maxGr = this.smoother.process(out, out, frames);
     if (maxGr > this.maxReductionDb) this.maxReductionDb = maxGr;
@@ -129,16 +125,8 @@ export class Compressor implements Processor, GainReductionSource {
 
   /** Reduction (dB) → linear gain with makeup, in place. */
   private toLinearGain(gain: Float64Array, frames: number): void {
-    const makeup = this.makeupDb, makeupGain = this.makeupGain;
-    let lastGr = 0, lastGain = makeupGain;
-    for (let i = 0; i < frames; i++) {
-      const gr = gain[i];
-      if (gr !== lastGr) {
-        lastGr = gr;
-        lastGain = gr === 0 ? makeupGain : fastExp2((makeup - gr) * DB_TO_LOG2_GAIN);
-      }
-      gain[i] = lastGain;
-    }
+    const makeup = this.makeupDb;
+    for (let i = 0; i < frames; i++) gain[i] = fastExp2((makeup - gain[i]) * DB_TO_LOG2_GAIN);
   }
 
   takeGainReductionDb(out: Float64Array): void {
