@@ -78,9 +78,9 @@ export class GainSmoother {
       if (fast < FLUSH_BELOW_DB) fast = 0;
       slow = t > slow ? slowAtt * slow + slowAtt1 * t : slowRel * slow + slowRel1 * t;
       if (slow < FLUSH_BELOW_DB) slow = 0;
-      const out = fast > slow ? fast : slow;
+      const out = Math.max(fast, slow);
       outDb[i] = out;
-      if (out > max) max = out;
+      max = Math.max(max, out);
     }
     this.fastDb = fast;
     this.slowDb = slow;

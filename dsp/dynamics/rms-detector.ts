@@ -87,9 +87,9 @@ export class RmsDetector {
       const x = l[i], y = r[i];
       m0 = a * m0 + b * x * x;
       m1 = a * m1 + b * y * y;
-      const m = m0 > m1 ? m0 : m1;
+      const m = Math.max(m0, m1);
       out[i] = m;
-      if (m > max) max = m;
+      max = Math.max(max, m);
     }
     ms[0] = m0; ms[1] = m1;
     return max;
@@ -112,9 +112,9 @@ export class RmsDetector {
       q2 = b2 * v - a2 * y;
       m0 = a * m0 + b * x * x;
       m1 = a * m1 + b * y * y;
-      const m = m0 > m1 ? m0 : m1;
+      const m = Math.max(m0, m1);
       out[i] = m;
-      if (m > max) max = m;
+      max = Math.max(max, m);
     }
     ms[0] = m0; ms[1] = m1;
     st[0] = p1; st[1] = p2; st[2] = q1; st[3] = q2;
