@@ -29,6 +29,15 @@ describe("fastLog2 (reference: Math.log2)", () => {
     for (const e of [-1022, -100, -1, 0, 1, 100, 1023]) expect(fastLog2(2 ** e)).toBe(e);
   });
 
+  it("+0 and subnormal numbers give finite values in [−1027, −1022] (a silent detector stays far below any threshold)", () => {
+    const rng = createRng(6);
+    for (const x of [0, 5e-324, 1e-310, ...Array.from({ length: 1000 }, () => rng() * 2 ** -1022)]) {
+      const v = fastLog2(x);
+      expect(v).toBeGreaterThanOrEqual(-1027);
+      expect(v).toBeLessThanOrEqual(-1022);
+    }
+  });
+
   it("a power ratio in dB (10·log10) stays within 1e-12 dB", () => {
     const rng = createRng(4);
     for (let i = 0; i < 10_000; i++) {

@@ -21,7 +21,11 @@ const INV_STEP = Float64Array.from({ length: MANTISSA_STEPS }, (_, j) => 1 / (1 
 const LOG2_STEP = Float64Array.from({ length: MANTISSA_STEPS }, (_, j) => Math.log2(1 + j / MANTISSA_STEPS));
 const INV_LN2 = 1 / Math.LN2;
 
-/** log2(x) for positive normal x (≥ 2^−1022); others give meaningless finite values or NaN. */
+/**
+ * log2(x) for positive normal x (≥ 2^−1022). +0 and subnormal numbers give
+ * finite values between −1027 and −1022 (good enough for a level: far below
+ * any threshold); negative numbers, −0 and NaN give NaN.
+ */
 export function fastLog2(x: number): number {
   bits[0] = x;
   const high = words[HIGH_WORD];

@@ -31,8 +31,6 @@ export interface CompressorSettings {
 // 10·log10(2): log2 of a power → dB; log2(10)/20: gain dB → log2 of the gain.
 const LOG2_POWER_TO_DB = 10 * Math.log10(2);
 const DB_TO_LOG2_GAIN = Math.log2(10) / 20;
-/** The smallest normal double: fastLog2's domain starts here. */
-const MIN_NORMAL = 2 ** -1022;
 
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
@@ -115,7 +113,8 @@ export class Compressor implements Processor, GainReductionSource {
       // more than they save in V8): with x = over + W/2 clamped to [0, W],
       // slope·x²/(2W) is 0 below the knee, the quadratic inside it and
       // slope·W/2 above it, where slope·(over − W/2) adds the rest.
-      const over = fastLog2(Math.max(power[i], MIN_NORMAL)) * LOG2_POWER_TO_DB - t;
+      // (fastLog2 of a silent frame's 0 is about −1026: far below the knee.)
+      const over = fastLog2(power[i]) * LOG2_POWER_TO_DB - t;
       const x = Math.min(Math.max(over + hw, 0), w);
       out[i] = kneeScale * x * x + slope * Math.max(over - hw, 0);
     }
