@@ -127,7 +127,7 @@ class Lr4Split {
     for (let i = start; i < end; i++) {
       const v = xa[i];
       const x = e2 * v + z1;
-      z1 = e1 * v + z2 - e1 * x;
+      z1 = e1 * (v - x) + z2; // three multiplies: measured faster here than the ordering of the split's own all-pass
       z2 = v - e2 * x;
       const gx = g * x;
       const l1 = gx + p1;
