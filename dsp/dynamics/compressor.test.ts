@@ -94,7 +94,7 @@ describe("time constants (analytic one-pole step response: 1 − 1/e at τ)", ()
 });
 
 describe("RMS detector with its sidechain high-pass (reference: Biquad, the RBJ cookbook high-pass, then the plain detector)", () => {
-  it("equals filtering first and detecting after, exactly, for mono and stereo and any block size; silence leaves exact zeros", () => {
+  it("equals filtering first and detecting after (within 1e-12 relative: the stereo loop orders its sums differently), for mono and stereo and any block size; silence leaves exact zeros", () => {
     const hp = designBiquad("highPass", { freqHz: 90, q: BUTTERWORTH_Q }, FS);
     for (const channels of [1, 2]) {
       const input = [whiteNoise(6000, 41), whiteNoise(6000, 42)].slice(0, channels);
@@ -102,14 +102,19 @@ describe("RMS detector with its sidechain high-pass (reference: Biquad, the RBJ 
       new Biquad(hp, channels).process(filtered, 6000);
       const ref = new Float64Array(6000);
       new RmsDetector(FS, channels, 20).process(filtered, 6000, ref);
-      for (const block of [1, 137, 6000]) {
+      let first = new Float64Array(0);
+      for (const block of [6000, 1, 137]) {
         const d = new RmsDetector(FS, channels, 20, 90);
         const out = new Float64Array(6000);
         for (let s = 0; s < 6000; s += block) {
           const n = Math.min(block, 6000 - s);
           d.process(input.map((x) => x.subarray(s, s + n)), n, out.subarray(s, s + n));
         }
-        expect(out).toEqual(ref);
+        let worst = 0;
+        for (let i = 0; i < 6000; i++) worst = Math.max(worst, Math.abs(out[i] / ref[i] - 1));
+        expect(worst).toBeLessThan(1e-12);
+        if (block === 6000) first = out;
+        else expect(out).toEqual(first); // block size never changes a bit
       }
     }
     // An impulse, then silence: the filter state is flushed, the mean square decays to exact 0.

@@ -95,21 +95,30 @@ export class RmsDetector {
     return max;
   }
 
+  /**
+   * The stereo loop with the high-pass. The Butterworth high-pass has
+   * b1 = −2·b0 and b2 = b0, so with g·x computed once each update needs two
+   * multiplies, and the sum is ordered with the product of the new output
+   * last: the loop runs at the speed of the filter's dependency chain, which
+   * this shortens from four operations to three. (Rounding therefore
+   * differs from Biquad's in the last bits; the mono loop below is Biquad's
+   * arithmetic.)
+   */
   private stereoHighPass(l: Float64Array, r: Float64Array, out: Float64Array, start: number, end: number): number {
     const a = this.coeff, b = 1 - a;
-    const b0 = this.b0, b1 = this.b1, b2 = this.b2, a1 = this.a1, a2 = this.a2;
+    const g = this.b0, a1 = this.a1, a2 = this.a2;
     const ms = this.meanSquare, st = this.filterState;
     let m0 = ms[0], m1 = ms[1];
     let p1 = st[0], p2 = st[1], q1 = st[2], q2 = st[3];
     let max = 0;
     for (let i = start; i < end; i++) {
-      const u = l[i], v = r[i];
-      const x = b0 * u + p1;
-      p1 = b1 * u - a1 * x + p2;
-      p2 = b2 * u - a2 * x;
-      const y = b0 * v + q1;
-      q1 = b1 * v - a1 * y + q2;
-      q2 = b2 * v - a2 * y;
+      const gu = g * l[i], gv = g * r[i];
+      const x = gu + p1;
+      p1 = p2 - gu - gu - a1 * x;
+      p2 = gu - a2 * x;
+      const y = gv + q1;
+      q1 = q2 - gv - gv - a1 * y;
+      q2 = gv - a2 * y;
       m0 = a * m0 + b * x * x;
       m1 = a * m1 + b * y * y;
       const m = Math.max(m0, m1);
