@@ -1,4 +1,6 @@
 import { describe, expect, it } from "vitest";
+import { whiteNoise } from "../../bench/signals.ts";
+import { BandSplitter } from "../filters/crossover.ts";
 import { MultibandCompressor, type MultibandBandSettings } from "./multiband.ts";
 
 const FS = 48000;
@@ -28,6 +30,24 @@ describe("multiband", () => {
     }
     for (const f of [20, 50, 90, 200, 700, 1000, 2000, 3000, 5000, 8000, 12000, 16000, 20000]) {
       expect(Math.abs(magnitudeDb(h, f))).toBeLessThan(0.01);
+    }
+  });
+
+  it("stereo, four bands (the one-pass sum): the output is the splitter's bands times each band's gain (makeup 0, 1, 2, 3 dB at ratio 1)", () => {
+    const crossoversHz = [90, 1000, 3000];
+    const mb = new MultibandCompressor(FS, 2, { crossoversHz, bands: [0, 1, 2, 3].map((makeupDb) => band({ makeupDb })) }, 4800);
+    const split = new BandSplitter(FS, 2, crossoversHz, 4800);
+    const l = whiteNoise(4800, 51), r = whiteNoise(4800, 52);
+    split.split([l, r], 4800);
+    mb.process([l, r], 4800);
+    for (let i = 0; i < 4800; i++) {
+      let el = 0, er = 0;
+      for (let b = 0; b < 4; b++) {
+        el += split.bands[b][0][i] * 10 ** (b / 20);
+        er += split.bands[b][1][i] * 10 ** (b / 20);
+      }
+      expect(l[i]).toBeCloseTo(el, 12);
+      expect(r[i]).toBeCloseTo(er, 12);
     }
   });
 

@@ -4,7 +4,8 @@
 // soloed only the soloed bands are summed, for listening).
 // Each band's compressor computes its gain per frame; one summing pass then
 // takes two bands at a time (out = b₀·g₀ + b₁·g₁, then out += b₂·g₂ + b₃·g₃),
-// instead of clearing the output and adding each band in a pass of its own.
+// or all four bands of both channels at once (the usual case), instead of
+// clearing the output and adding each band in a pass of its own.
 
 import { BandSplitter } from "../filters/crossover.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
@@ -63,6 +64,12 @@ export class MultibandCompressor implements Processor, GainReductionSource {
         this.order[audibleCount++] = b;
       } else comp?.detect(bands[b], frames, this.scratch); // a muted (not soloed) band keeps a meaningful trace
     }
+    const o = this.order, g = this.gains;
+    if (audibleCount === 4 && this.channels === 2) {
+      // The usual case in one pass: both channels share the gain reads.
+      sumFourStereo(channels, bands[o[0]], g[o[0]], bands[o[1]], g[o[1]], bands[o[2]], g[o[2]], bands[o[3]], g[o[3]], frames);
+      return;
+    }
     for (let c = 0; c < this.channels; c++) {
       const out = channels[c];
       if (audibleCount === 0) {
@@ -89,6 +96,21 @@ export class MultibandCompressor implements Processor, GainReductionSource {
         out[b] = this.one[0];
       } else out[b] = 0;
     }
+  }
+}
+
+/** out[c] = a[c]·g + b[c]·h + c[c]·u + d[c]·v for two channels */
+function sumFourStereo(
+  out: Float64Array[],
+  a: Float64Array[], g: Float64Array, b: Float64Array[], h: Float64Array,
+  c: Float64Array[], u: Float64Array, d: Float64Array[], v: Float64Array,
+  frames: number,
+): void {
+  const ol = out[0], or = out[1], al = a[0], ar = a[1], bl = b[0], br = b[1], cl = c[0], cr = c[1], dl = d[0], dr = d[1];
+  for (let i = 0; i < frames; i++) {
+    const gi = g[i], hi = h[i], ui = u[i], vi = v[i];
+    ol[i] = al[i] * gi + bl[i] * hi + (cl[i] * ui + dl[i] * vi);
+    or[i] = ar[i] * gi + br[i] * hi + (cr[i] * ui + dr[i] * vi);
   }
 }
 
