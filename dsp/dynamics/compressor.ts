@@ -84,11 +84,30 @@ export class Compressor implements Processor, GainReductionSource {
   }
 
   process(channels: Planar, frames: number): void {
-    const gain = this.gainBuffer;
-    this.gain(channels, frames, gain);
+    const grDb = this.gainBuffer;
+    if (this.reduction(channels, frames, grDb)) {
+      const g = this.makeupGain;
+      for (let c = 0; c < this.channels; c++) {
+        const x = channels[c];
+        for (let i = 0; i < frames; i++) x[i] *= g;
+      }
+      return;
+    }
+    const makeup = this.makeupDb;
+    if (this.channels === 2) {
+      // Gain and both channels in one loop (measured faster than a gain pass first).
+      const l = channels[0], r = channels[1];
+      for (let i = 0; i < frames; i++) {
+        const g = fastExp2((makeup - grDb[i]) * DB_TO_LOG2_GAIN);
+        l[i] *= g;
+        r[i] *= g;
+      }
+      return;
+    }
+    this.toLinearGain(grDb, frames);
     for (let c = 0; c < this.channels; c++) {
       const x = channels[c];
-      for (let i = 0; i < frames; i++) x[i] *= gain[i];
+      for (let i = 0; i < frames; i++) x[i] *= grDb[i];
     }
   }
 
