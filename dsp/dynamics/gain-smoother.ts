@@ -27,17 +27,19 @@ export class GainSmoother {
   /** The slow envelope's coefficients; 1 and 1 (frozen at 0) unless releaseMs is "auto". */
   private readonly slowAttackCoeff: number;
   private readonly slowReleaseCoeff: number;
+  private readonly fixedRelease: boolean;
   private fastDb = 0;
   private slowDb = 0;
   private readonly one = new Float64Array(1);
 
   constructor(sampleRate: number, attackMs: number, releaseMs: number | "auto") {
     const auto = releaseMs === "auto";
+    this.fixedRelease = !auto;
     this.attackCoeff = timeConstantCoeff(attackMs, sampleRate);
     this.releaseCoeff = timeConstantCoeff(auto ? AUTO_FAST_RELEASE_MS : (releaseMs as number), sampleRate);
     // A coefficient of 1 keeps the envelope where it is: 1·0 + 0·t = 0
     // exactly, so with a fixed release the slow envelope stays 0 and
-    // max(fast, slow) = fast, with no branch on the mode per frame.
+    // max(fast, slow) = fast; `process` then runs the fast envelope alone.
     this.slowAttackCoeff = auto ? timeConstantCoeff(AUTO_SLOW_ATTACK_MS, sampleRate) : 1;
     this.slowReleaseCoeff = auto ? timeConstantCoeff(AUTO_SLOW_RELEASE_MS, sampleRate) : 1;
   }
@@ -69,6 +71,18 @@ export class GainSmoother {
     const att1 = 1 - att, rel1 = 1 - rel, slowAtt1 = 1 - slowAtt, slowRel1 = 1 - slowRel;
     let fast = this.fastDb, slow = this.slowDb;
     let max = 0;
+    if (this.fixedRelease) {
+      // The slow envelope stays 0 (see the constructor): the fast one alone.
+      for (let i = 0; i < frames; i++) {
+        const t = targetDb[i];
+        fast = t > fast ? att * fast + att1 * t : rel * fast + rel1 * t;
+        if (fast < FLUSH_BELOW_DB) fast = 0;
+        outDb[i] = fast;
+        max = Math.max(max, fast);
+      }
+      this.fastDb = fast;
+      return max;
+    }
     for (let i = 0; i < frames; i++) {
       const t = targetDb[i];
       // y = c·y + (1 − c)·t: the same one-pole as t + c·(y − t), with one
