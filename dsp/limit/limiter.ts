@@ -29,7 +29,8 @@ export interface LimiterSettings {
 export interface PerFramePeakDetector {
   readonly latencyFrames: number;
   reset(): void;
-  processPerFrame(channels: Planar, frames: number, outPeak: Float64Array): void;
+  /** Exact per-frame peaks above exactAbove; at or under it, any value between the true one and exactAbove. */
+  processPerFrame(channels: Planar, frames: number, outPeak: Float64Array, exactAbove?: number): void;
 }
 
 // Headroom below the ceiling; sample peak: float rounding only.
@@ -102,8 +103,9 @@ export class Limiter implements Processor, GainReductionSource {
       }
     }
     const gain = this.peaks; // peaks, then required gains, then the held minimum, then the gain
-    // The detector's points include the sample itself (its phase 0, at the detector's delay).
-    if (this.detector) this.detector.processPerFrame(channels, frames, gain);
+    // The detector's points include the sample itself (its phase 0, at the detector's delay). Under
+    // the ceiling the required gain is 1 whatever the peak, so only peaks above it need to be exact.
+    if (this.detector) this.detector.processPerFrame(channels, frames, gain, this.ceiling);
     else {
       gain.fill(0, 0, frames);
       for (let c = 0; c < nch; c++) {

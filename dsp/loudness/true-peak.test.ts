@@ -105,4 +105,35 @@ describe("true peak (analytic)", () => {
       expect(all[i]).toBeGreaterThanOrEqual(Math.max(Math.abs(x[0][i - L]), Math.abs(x[1][i - L])));
     }
   });
+  it("processPerFrame with exactAbove: peaks above it are exact, the others lie between their exact value and it", () => {
+    // A tone swelling from −40 dB to +2 dB and noise bursts: some chunks under the level, some over.
+    const n = 24000;
+    const x = [0, 1].map((c) => {
+      const noise = whiteNoise(n, 31 + c, 0.3);
+      return new Float64Array(n).map((_, i) => 10 ** ((-40 + (42 * i) / n) / 20) * Math.sin(0.7 * i + c) + (Math.floor(i / 3000) % 2 ? noise[i] : 0));
+    });
+    const level = 10 ** (-6 / 20);
+    const exact = new TruePeakDetector(48000, 2, 1000);
+    const fast = new TruePeakDetector(48000, 2, 1000);
+    const a = new Float64Array(1000), b = new Float64Array(1000);
+    let skipped = 0, over = 0;
+    for (let s = 0; s < n; s += 1000) {
+      const block = x.map((c) => c.subarray(s, s + 1000));
+      exact.processPerFrame(block, 1000, a);
+      fast.processPerFrame(block, 1000, b, level);
+      for (let i = 0; i < 1000; i++) {
+        if (a[i] > level) {
+          over++;
+          expect(b[i]).toBe(a[i]);
+        } else {
+          expect(b[i]).toBeGreaterThanOrEqual(a[i]);
+          expect(b[i]).toBeLessThanOrEqual(level);
+          if (b[i] !== a[i]) skipped++;
+        }
+      }
+    }
+    // Both cases occur, so the check above has tested something.
+    expect(over).toBeGreaterThan(1000);
+    expect(skipped).toBeGreaterThan(1000);
+  });
 });

@@ -141,12 +141,44 @@ export class TruePeakDetector {
    * For each input frame i: the largest |x| over channels of the interpolated
    * points of frame i − latencyFrames (phase 0 = that sample, then the points
    * after it). State carries between blocks. Also updates maxAbs.
+   * With exactAbove > 0, a chunk of frames whose points provably stay at or
+   * under it (Σ|h| times its largest input) is not interpolated: its frames
+   * get that bound, which lies between their true value and exactAbove, and
+   * maxAbs counts only the frames computed exactly. A limiter needs exact
+   * values only above its ceiling, and most frames of a master are below.
    */
-  processPerFrame(channels: Float64Array[], frames: number, outPeak: Float64Array): void {
+  processPerFrame(channels: Float64Array[], frames: number, outPeak: Float64Array, exactAbove = 0): void {
     this.loadBlock(channels, frames);
-    this.framePeaks(0, frames, outPeak, 0);
     let max = this.max;
-    for (let i = 0; i < frames; i++) if (outPeak[i] > max) max = outPeak[i];
+    if (exactAbove > 0) {
+      const bound = this.boundGain, HISTORY = this.history, hist = this.hist;
+      let untested = 0; // as in process()
+      for (let start = 0; start < frames; start += CHUNK_FRAMES) {
+        const end = Math.min(frames, start + CHUNK_FRAMES);
+        if (untested > 0) untested--;
+        else {
+          let local = 0;
+          for (let ch = 0; ch < hist.length; ch++) {
+            const h = hist[ch];
+            for (let j = start; j < end + HISTORY; j++) {
+              const a = Math.abs(h[j]);
+              if (a > local) local = a;
+            }
+          }
+          const b = local * bound;
+          if (b <= exactAbove) {
+            outPeak.fill(b, start, end);
+            continue;
+          }
+          untested = UNTESTED_CHUNKS;
+        }
+        this.framePeaks(start, end, outPeak, 0);
+        for (let i = start; i < end; i++) if (outPeak[i] > max) max = outPeak[i];
+      }
+    } else {
+      this.framePeaks(0, frames, outPeak, 0);
+      for (let i = 0; i < frames; i++) if (outPeak[i] > max) max = outPeak[i];
+    }
     this.max = max;
     this.keepTail(frames);
   }
