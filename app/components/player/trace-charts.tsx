@@ -61,7 +61,7 @@ export function TraceCharts({ aligned, positionS, labels, processed = { a: true,
             <figcaption className="mb-1 text-sm font-medium text-ink">{panel.title}</figcaption>
             <div style={{ height: loudness ? 140 : 110 }}>
               <ResponsiveContainer width="100%" height="100%">
-                <ComposedChart data={aligned.rows} margin={{ top: 4, right: 8, bottom: 0, left: 0 }}>
+                <ComposedChart data={aligned.rows} margin={{ top: 6, right: 28, bottom: 0, left: 0 }}>
                   <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />
                   <XAxis dataKey="timeS" type="number" domain={domain} tickFormatter={(s: number) => formatClock(s)} tick={{ fontFamily: "var(--font-mono)", fontSize: 11 }} />
                   <YAxis
@@ -69,9 +69,9 @@ export function TraceCharts({ aligned, positionS, labels, processed = { a: true,
                     reversed={!loudness}
                     domain={loudness ? [-40, 0] : [0, "auto"]}
                     allowDataOverflow={loudness}
-                    width={52}
-                    tickFormatter={(v: number) => (loudness ? `${v}` : v === 0 ? "0" : `−${v}`)}
-                    unit={loudness ? " LUFS" : " dB"}
+                    // The unit is in the panel's title; bare numbers keep the ticks on one line.
+                    width={40}
+                    tickFormatter={(v: number) => (loudness ? `${v}` : v === 0 ? "0" : `−${Number(v.toFixed(1))}`)}
                     tick={{ fontFamily: "var(--font-mono)", fontSize: 11 }}
                   />
                   <Tooltip
