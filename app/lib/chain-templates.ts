@@ -11,7 +11,7 @@ export type ChainTemplate = { name: string; params: ChainInput };
 export const EMPTY_CHAIN: ChainInput = { stages: [], output: { bitDepth: 24, dither: "tpdf" } };
 
 export const CHAIN_TEMPLATES: readonly ChainTemplate[] = [
-  // Four bands at 90 Hz, 1 kHz and 3 kHz, ratios 1.2–2, bus compressor on auto release, limiter at -1 dBTP.
+  // Four bands at 90 Hz, 1 kHz and 3 kHz, ratios 1.2–1.6, bus compressor on auto release, limiter at -1 dBTP.
   { name: "Gentle master", params: gentleMaster as ChainInput },
   {
     name: "Open and loud",
@@ -35,9 +35,10 @@ export const CHAIN_TEMPLATES: readonly ChainTemplate[] = [
       stages: [
         { type: "trim", gainDb: 0 },
         { type: "eq", bands: [{ shape: "highPass", freqHz: 20, gainDb: 0, q: 0.707, channel: "stereo" }] },
-        { type: "limit", inputGainDb: 0, ceilingDbtp: -2, lookaheadMs: 3, releaseMs: 150, truePeak: true },
+        { type: "limit", inputGainDb: 0, ceilingDbtp: -1, lookaheadMs: 3, releaseMs: 150, truePeak: true },
       ],
-      output: { bitDepth: 24, dither: "tpdf", targetLufs: -23 },
+      // About -14 LUFS, the quieter reference (common practice), with lossy-delivery headroom.
+      output: { bitDepth: 24, dither: "tpdf", targetLufs: -14 },
     },
   },
 ];
