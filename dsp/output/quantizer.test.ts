@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { Quantizer } from "./quantizer.ts";
+import { Prng } from "./prng.ts";
 
 const FS = 48000;
 
@@ -65,5 +66,15 @@ describe("TPDF dither (analytic: rounding LSB²/12 + TPDF 2·LSB²/12 → error 
     const f = x.slice();
     new Quantizer(1, "32f", "tpdf").process([f], 1000);
     expect(Array.from(f)).toEqual(Array.from(x));
+  });
+});
+
+describe("Prng.fillTpdf", () => {
+  it("is exactly next() − next() per value, and leaves the generator where two calls each would", () => {
+    const a = new Prng(12345), b = new Prng(12345);
+    const out = new Float64Array(1000);
+    a.fillTpdf(out, 1000);
+    for (let i = 0; i < 1000; i++) expect(out[i]).toBe(b.next() - b.next());
+    expect(a.next()).toBe(b.next());
   });
 });
