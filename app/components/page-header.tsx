@@ -1,3 +1,5 @@
+import { Link } from "react-router";
+
 export function PageHeader({ title, eyebrow, actions }: { title: string; eyebrow?: React.ReactNode; actions?: React.ReactNode }) {
   return (
     <div className="mb-6 flex flex-col gap-3 sm:flex-row sm:items-end sm:justify-between">
@@ -7,5 +9,16 @@ export function PageHeader({ title, eyebrow, actions }: { title: string; eyebrow
       </div>
       {actions && <div className="flex flex-wrap gap-2">{actions}</div>}
     </div>
+  );
+}
+
+/** The "← parent" link above a page's header. */
+export function BackLink({ to, children }: { to: string; children: React.ReactNode }) {
+  return (
+    <p className="mb-2 text-sm">
+      <Link to={to} className="text-accent-deep underline-offset-4 hover:underline">
+        ← {children}
+      </Link>
+    </p>
   );
 }

@@ -8,7 +8,7 @@ import { startChain } from "../lib/chain-access.server.ts";
 import { parseNewChainForm } from "../lib/chain-form.server.ts";
 import { listTemplates, listTrackChains } from "../models/chain.server.ts";
 import { getTrack } from "../models/track.server.ts";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { NewChainForm } from "../components/chain/new-chain-form.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -39,11 +39,7 @@ export default function ChainNew({ loaderData, actionData }: Route.ComponentProp
   const { release, track, templates, chains } = loaderData;
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={`/releases/${release.id}/tracks/${track.id}`} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {release.title} · {track.title}
-        </Link>
-      </p>
+      <BackLink to={`/releases/${release.id}/tracks/${track.id}`}>{release.title} · {track.title}</BackLink>
       <PageHeader eyebrow={track.title} title="New chain" />
       <NewChainForm
         templates={templates}

@@ -1,13 +1,13 @@
 // One chain (a track's, or a studio template): the editor, its revisions and
 // what changed between two of them. Saving always makes a new revision.
-import { data, Form, Link, redirect, useNavigation } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/chain";
 import { requireRole } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { STAFF } from "../lib/roles.ts";
 import { getChainForStaff } from "../lib/chain-access.server.ts";
 import { ChainInvalidError, createRevision, diffParams, listRevisions } from "../models/chain.server.ts";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { ChainEditor, type EditableChain } from "../components/chain/chain-editor.tsx";
 import { RevisionDiff } from "../components/chain/revision-diff.tsx";
 import { editorPath } from "../components/chain/labels.ts";
@@ -65,11 +65,7 @@ export default function ChainPage({ loaderData, actionData }: Route.ComponentPro
     : { to: "/templates", label: "Studio templates" };
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={back.to} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {back.label}
-        </Link>
-      </p>
+      <BackLink to={back.to}>{back.label}</BackLink>
       <PageHeader
         eyebrow={chain.track ? "Track chain" : "Studio template"}
         title={chain.name}

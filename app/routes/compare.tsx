@@ -7,7 +7,7 @@
 // chain parameters that differ; comments pinned to times, and the review
 // step: send A for review (staff), approve it or ask for changes (client).
 import { useState } from "react";
-import { Form, Link, useNavigation, useSearchParams } from "react-router";
+import { Form, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/compare";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
@@ -26,7 +26,8 @@ import { AbPlayer } from "../components/player/ab-player.tsx";
 import { AnalysesCompare } from "../components/player/analyses-compare.tsx";
 import { formatClock } from "../components/player/format.ts";
 import { TraceCharts } from "../components/player/trace-charts.tsx";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
+import { FormNotice } from "../components/field.tsx";
 import { CommentThreads, TargetInputs } from "../components/review/comment-threads.tsx";
 import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
@@ -117,11 +118,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
 
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={`/releases/${release.id}/tracks/${track.id}`} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {track.title}
-        </Link>
-      </p>
+      <BackLink to={`/releases/${release.id}/tracks/${track.id}`}>{track.title}</BackLink>
       <PageHeader
         eyebrow={
           <>
@@ -131,9 +128,9 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
         title={`Compare ${track.title}`}
       />
       {error && (
-        <p role="alert" className="mb-4 rounded-md bg-danger-wash px-3 py-2 text-sm text-danger">
-          {error}
-        </p>
+        <div className="mb-4">
+          <FormNotice message={error} />
+        </div>
       )}
 
       {choices.length > 0 && (

@@ -10,7 +10,7 @@ import { listChainChoices } from "../lib/render-views.server.ts";
 import { listMixVersions } from "../models/mix.server.ts";
 import { createRender } from "../models/render.server.ts";
 import { renderNewSchema } from "../schemas/render-new.ts";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { SelectField, TextField } from "../components/field.tsx";
 import { fmtDuration } from "../components/render/format.ts";
 
@@ -62,11 +62,7 @@ export default function RenderNew({ loaderData, actionData }: Route.ComponentPro
   const base = `/releases/${release.id}/tracks/${track.id}`;
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={base} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {track.title}
-        </Link>
-      </p>
+      <BackLink to={base}>{track.title}</BackLink>
       <PageHeader eyebrow={release.title} title="New render" />
       {chains.length === 0 ? (
         <p className="card max-w-2xl p-5 text-sm">There is no chain to render with yet: save a chain for this track, or a studio template, first.</p>

@@ -13,7 +13,7 @@ import { readChartTraces } from "../lib/render-traces.server.ts";
 import { cancelRender } from "../models/render.server.ts";
 import { publicAppUrl } from "../lib/billing/links.ts";
 import { ReviewActionError, ReviewForbiddenError, sendForReview } from "../models/review.server.ts";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { RenderProgress } from "../components/render/progress-bar.tsx";
 import { AnalysesTable } from "../components/render/analyses-table.tsx";
 import { RenderTraces } from "../components/render/render-traces.tsx";
@@ -95,11 +95,7 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
   const title = `${render.kind === "print" ? "Print" : "Preview"} of v${mix.version}`;
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={base} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {track.title}
-        </Link>
-      </p>
+      <BackLink to={base}>{track.title}</BackLink>
       <PageHeader
         eyebrow={release.title}
         title={title}

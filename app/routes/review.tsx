@@ -16,7 +16,8 @@ import { getTrack } from "../models/track.server.ts";
 import { reviewPageAction } from "../lib/review/page-action.server.ts";
 import { formatClock } from "../components/player/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
+import { FormNotice } from "../components/field.tsx";
 import { CommentThreads } from "../components/review/comment-threads.tsx";
 import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
@@ -80,11 +81,7 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
 
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={`/releases/${release.id}`} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {release.title}
-        </Link>
-      </p>
+      <BackLink to={`/releases/${release.id}`}>{release.title}</BackLink>
       <PageHeader
         eyebrow={
           <>
@@ -94,9 +91,9 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
         title={`Review ${track.title}`}
       />
       {error && (
-        <p role="alert" className="mb-4 rounded-md bg-danger-wash px-3 py-2 text-sm text-danger">
-          {error}
-        </p>
+        <div className="mb-4">
+          <FormNotice message={error} />
+        </div>
       )}
       {!render ? (
         <p className="card p-4 text-sm text-ink-soft">Nothing has been sent for review on this track yet.</p>

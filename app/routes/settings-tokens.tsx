@@ -1,13 +1,13 @@
 // Personal API tokens: made with a name, shown once, revoked here. A token
 // acts as its member, with the same rights as on the pages.
-import { data, Form, Link } from "react-router";
+import { data, Form } from "react-router";
 import type { Route } from "./+types/settings-tokens";
 import { z } from "zod";
 import { requireUser } from "../lib/auth.server.ts";
 import { parseForm } from "../lib/forms.ts";
 import { createApiToken, listApiTokens, revokeApiToken } from "../models/api-token.server.ts";
 import { FormNotice, TextField } from "../components/field.tsx";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 
 const tokenNameSchema = z.object({ name: z.string().trim().min(1, "Name the token, e.g. where it is used").max(80, "At most 80 characters") });
 
@@ -39,11 +39,7 @@ const when = (iso: string | null) => (iso ? `${iso.slice(0, 16).replace("T", " "
 export default function SettingsTokens({ loaderData, actionData }: Route.ComponentProps) {
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to="/settings" className="text-accent-deep underline-offset-4 hover:underline">
-          ← Settings
-        </Link>
-      </p>
+      <BackLink to="/settings">Settings</BackLink>
       <PageHeader title="API tokens" />
       <p className="mb-4 max-w-2xl text-sm text-ink-soft">
         A token lets a script use the Tidemark API as you, with your rights. Send it as <code className="num">Authorization: Bearer &lt;token&gt;</code>. Only a

@@ -10,7 +10,7 @@ import { listTrackRenders } from "../lib/render-views.server.ts";
 import { formatBytes, receiveMixUpload, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
 import { MultipartError, parseMultipartFiles } from "../lib/multipart-files.server.ts";
 import { formatIsrc } from "../schemas/track.ts";
-import { PageHeader } from "../components/page-header.tsx";
+import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { MixUploadForm } from "../components/upload/mix-upload-form.tsx";
 import { MixVersionsTable } from "../components/upload/mix-versions-table.tsx";
 import { RenderList } from "../components/render/render-list.tsx";
@@ -77,11 +77,7 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
   }, [working, revalidator]);
   return (
     <>
-      <p className="mb-2 text-sm">
-        <Link to={`/releases/${release.id}`} className="text-accent-deep underline-offset-4 hover:underline">
-          ← {release.title}
-        </Link>
-      </p>
+      <BackLink to={`/releases/${release.id}`}>{release.title}</BackLink>
       <PageHeader
         eyebrow={
           <>
