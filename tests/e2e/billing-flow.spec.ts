@@ -11,25 +11,17 @@ import { mkdirSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { randomUUID } from "node:crypto";
-import { expect, test, type Page } from "@playwright/test";
+import { expect, test } from "@playwright/test";
 import knex from "knex";
 import knexConfig from "../../knexfile.ts";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
+import { signIn } from "./demo-sign-in.ts";
 
-const PASSWORD = "tidemark-demo";
 const OWNER = "owner@lanternquay.test";
 const CLIENT = "mirelle@quane.test";
 const ARTIFACTS = path.resolve("tests/artifacts");
 const PAYMENTS = `${process.env.STRIPE_API_PROTOCOL ?? "http"}://${process.env.STRIPE_API_HOST ?? "127.0.0.1"}:${process.env.STRIPE_API_PORT ?? "12121"}`;
-
-async function signIn(page: Page, email: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-}
 
 let releaseId: string;
 let printPage: string;

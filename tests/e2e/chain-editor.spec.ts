@@ -4,17 +4,9 @@
 // second revision and reads the diff; the page fits a phone.
 import { mkdirSync } from "node:fs";
 import { expect, test, type Page } from "@playwright/test";
+import { signIn } from "./demo-sign-in.ts";
 
-const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
-
-async function signIn(page: Page, email: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-}
 
 async function openDemoTrack(page: Page) {
   await page.getByRole("table", { name: "Releases" }).getByRole("link", { name: "Lowlight Weather" }).click();

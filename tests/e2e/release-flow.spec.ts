@@ -2,18 +2,10 @@
 // creates a release with two tracks; the client sees only their own releases.
 import { mkdirSync } from "node:fs";
 import { expect, test, type Page } from "@playwright/test";
+import { DEMO_OWNER, signIn } from "./demo-sign-in.ts";
 
-const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
 const ARTIST = "mirelle@quane.test";
-
-async function signIn(page: Page, email: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-}
 
 async function signOut(page: Page) {
   await page.getByRole("button", { name: "Sign out" }).click();
@@ -97,11 +89,7 @@ test.describe("at phone width", () => {
   test.use({ viewport: { width: 375, height: 740 } });
 
   test("no page scrolls sideways", async ({ page }) => {
-    await page.goto("/sign-in");
-    await page.getByLabel("E-mail").fill("owner@lanternquay.test");
-    await page.getByLabel("Password").fill(PASSWORD);
-    await page.getByRole("button", { name: "Sign in" }).click();
-    await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
+    await signIn(page, DEMO_OWNER);
     await page.getByRole("link", { name: "Lowlight Weather" }).click();
     await expect(page.getByRole("heading", { level: 1, name: "Lowlight Weather" })).toBeVisible();
     const releasePath = new URL(page.url()).pathname;

@@ -6,28 +6,20 @@
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import { expect, test, type Page } from "@playwright/test";
+import { expect, test } from "@playwright/test";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { analyzeFile } from "../../dsp/analysis.ts";
 import knex from "knex";
 import knexConfig from "../../knexfile.ts";
 import { parseChain } from "../../dsp/chain/schema.ts";
+import { signIn } from "./demo-sign-in.ts";
 
-const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
 const TEMPLATE = "Gentle master";
 const gentleMaster = JSON.parse(readFileSync(new URL("../../examples/gentle-master.json", import.meta.url), "utf8")) as {
   stages: { type: string; ceilingDbtp?: number }[];
 };
-
-async function signIn(page: Page, email: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-}
 
 /** 10 s of stereo noise shaped by a swell, with two tones over it: enough for every band to act. */
 async function writeMix(filePath: string): Promise<void> {

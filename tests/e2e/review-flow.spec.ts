@@ -17,8 +17,8 @@ import { expect, test, type Browser, type Page } from "@playwright/test";
 import knex from "knex";
 import knexConfig from "../../knexfile.ts";
 import { createWavWriter } from "../../dsp/io/wav-writer.ts";
+import { signIn } from "./demo-sign-in.ts";
 
-const PASSWORD = "tidemark-demo";
 const ENGINEER = "engineer@lanternquay.test";
 const CLIENT = "mirelle@quane.test";
 const OWNER = "owner@lanternquay.test";
@@ -29,14 +29,6 @@ const trackTitle = `Review run ${tag}`;
 let releaseId = "";
 let trackId = "";
 let tmp = "";
-
-async function signIn(page: Page, email: string) {
-  await page.goto("/sign-in");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-}
 
 /** 8 s of a stereo tone with a slow swell and a little noise: something for the chain's stages to act on. */
 async function writeMix(filePath: string) {
