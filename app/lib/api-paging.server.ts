@@ -1,10 +1,9 @@
-// Keyset paging for the API's lists, newest first: `?limit=` (1–200) and
-// `?after=<id>`, the last id of the previous page. The position is read from
-// the row itself in SQL, so timestamps keep their microseconds and a page
-// never repeats or skips a row when new ones arrive.
+// The API side of paging its lists: `?limit=` (1–200) and `?after=<id>`, the
+// last id of the previous page, checked here; the SQL is keyset.server.ts.
 import { z } from "zod";
 import { apiError, fieldErrorsOf } from "./api.server.ts";
 import { db } from "./db.server.ts";
+import type { Page } from "./keyset.server.ts";
 
 export const MAX_PAGE = 200;
 
@@ -13,21 +12,19 @@ const pageSchema = z.object({
   after: z.uuid({ message: "must be an id from the previous page's nextAfter" }).optional(),
 });
 
-export type { Page } from "./keyset.server.ts";
-type Page = z.output<typeof pageSchema>;
-
-/** The page asked for in the URL; throws a 400 with field errors otherwise. */
-export function parsePage(url: URL): Page {
+/**
+ * The page asked for in the URL, its cursor a row of `table` that still
+ * exists (a deleted one cannot say where to go on); else throws a 400 with
+ * field errors.
+ */
+export async function requestedPage(url: URL, table: string): Promise<Page> {
   const parsed = pageSchema.safeParse({ limit: url.searchParams.get("limit") ?? undefined, after: url.searchParams.get("after") ?? undefined });
   if (!parsed.success) throw apiError(400, "The page is not valid", fieldErrorsOf(parsed.error.issues));
-  return parsed.data;
-}
-
-/** Whether the cursor names a row at all (a deleted one cannot say where to go on). */
-export async function assertCursor(table: string, page: Page): Promise<void> {
+  const page = parsed.data;
   if (page.after && !(await db(table).where({ id: page.after }).first("id"))) {
     throw apiError(400, "The page is not valid", { after: "names no row any more; start again without it" });
   }
+  return page;
 }
 
 /** The page's rows and the cursor of the next page (null on the last). */

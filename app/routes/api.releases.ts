@@ -2,7 +2,7 @@
 import type { Route } from "./+types/api.releases";
 import { apiError, handleApi, json, methodNotAllowed, readJson, requireApiUser } from "../lib/api.server.ts";
 import { STAFF } from "../lib/roles.ts";
-import { assertCursor, pageOf, parsePage } from "../lib/api-paging.server.ts";
+import { pageOf, requestedPage } from "../lib/api-paging.server.ts";
 import { clientInStudio } from "../models/client.server.ts";
 import { createRelease, getReleaseForUser, listReleasesForUser } from "../models/release.server.ts";
 import { apiReleaseSchema } from "../schemas/api.ts";
@@ -13,8 +13,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     const user = await requireApiUser(request);
     const status = new URL(request.url).searchParams.get("status");
     if (status && !RELEASE_STATUSES.includes(status as ReleaseStatus)) return apiError(400, "Unknown status", { status: `must be one of ${RELEASE_STATUSES.join(", ")}` });
-    const page = parsePage(new URL(request.url));
-    await assertCursor("releases", page);
+    const page = await requestedPage(new URL(request.url), "releases");
     const { items, nextAfter } = pageOf(await listReleasesForUser(user, status ? { status: status as ReleaseStatus } : {}, page), page);
     return json({ releases: items, nextAfter });
   });
