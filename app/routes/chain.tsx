@@ -8,6 +8,7 @@ import { STAFF } from "../lib/roles.ts";
 import { getChainForStaff } from "../lib/chain-access.server.ts";
 import { ChainInvalidError, createRevision, diffParams, listRevisions } from "../models/chain.server.ts";
 import { BackLink, PageHeader } from "../components/page-header.tsx";
+import { SelectField } from "../components/field.tsx";
 import { ChainEditor, type EditableChain } from "../components/chain/chain-editor.tsx";
 import { RevisionDiff } from "../components/chain/revision-diff.tsx";
 import { editorPath } from "../components/chain/labels.ts";
@@ -59,6 +60,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function ChainPage({ loaderData, actionData }: Route.ComponentProps) {
   const { chain, latest, revisions, diff, saved } = loaderData;
+  const revisionOptions = revisions.map((r) => ({ value: String(r.revision), label: `Revision ${r.revision}` }));
   const navigation = useNavigation();
   const back = chain.track
     ? { to: `/releases/${chain.track.releaseId}/tracks/${chain.track.id}`, label: `${chain.track.releaseTitle} · ${chain.track.title}` }
@@ -108,30 +110,15 @@ export default function ChainPage({ loaderData, actionData }: Route.ComponentPro
           </ul>
           {revisions.length > 1 && (
             <Form method="get" className="flex flex-wrap items-end gap-2" aria-label="Compare revisions">
-              <div>
-                <label htmlFor="from" className="mb-1 block text-sm font-medium">
-                  From
-                </label>
-                <select id="from" name="from" className="field-input" defaultValue={diff?.from}>
-                  {revisions.map((r) => (
-                    <option key={r.id} value={r.revision}>
-                      Revision {r.revision}
-                    </option>
-                  ))}
-                </select>
-              </div>
-              <div>
-                <label htmlFor="to" className="mb-1 block text-sm font-medium">
-                  To
-                </label>
-                <select id="to" name="to" className="field-input" defaultValue={diff?.to}>
-                  {revisions.map((r) => (
-                    <option key={r.id} value={r.revision}>
-                      Revision {r.revision}
-                    </option>
-                  ))}
-                </select>
-              </div>
+              {(["from", "to"] as const).map((name) => (
+                <SelectField
+                  key={name}
+                  label={name === "from" ? "From" : "To"}
+                  name={name}
+                  options={revisionOptions}
+                  defaultValue={diff ? String(diff[name]) : undefined}
+                />
+              ))}
               <button type="submit" className="btn-quiet">
                 Compare
               </button>
