@@ -67,9 +67,13 @@ authenticator.use(
 );
 
 export async function createUserSession(request: Request, signedIn: SignedIn, redirectTo: string): Promise<Response> {
+  return updateSessionAndRedirect(request, signedIn, redirectTo);
+}
+
+async function updateSessionAndRedirect(request: Request, values: Partial<SignedIn>, redirectTo: string): Promise<Response> {
   const session = await getSession(request);
-  session.set("userId", signedIn.userId);
-  session.set("studioId", signedIn.studioId);
+  if (values.userId) session.set("userId", values.userId);
+  if (values.studioId) session.set("studioId", values.studioId);
   return redirect(safeRedirectPath(redirectTo), { headers: { "Set-Cookie": await sessionStorage.commitSession(session) } });
 }
 
@@ -133,12 +137,11 @@ async function followIntoOtherStudio(request: Request, user: CurrentUser, releas
   if (!studioId || studioId === user.studioId) return;
   const there = await getCurrentUser(user.id, studioId);
   if (!there || (roles && !roles.includes(there.role)) || !(await getReleaseForUser(there, releaseId))) return;
-  throw await switchStudioRedirect(request, studioId, new URL(request.url).pathname + new URL(request.url).search);
+  const url = new URL(request.url);
+  throw await switchStudioRedirect(request, studioId, url.pathname + url.search);
 }
 
 /** Sets the session's studio (the caller has checked the membership) and redirects. */
-export async function switchStudioRedirect(request: Request, studioId: string, redirectTo: string): Promise<Response> {
-  const session = await getSession(request);
-  session.set("studioId", studioId);
-  return redirect(safeRedirectPath(redirectTo), { headers: { "Set-Cookie": await sessionStorage.commitSession(session) } });
+export function switchStudioRedirect(request: Request, studioId: string, redirectTo: string): Promise<Response> {
+  return updateSessionAndRedirect(request, { studioId }, redirectTo);
 }
