@@ -6,6 +6,7 @@ export type RateDecision = { ok: true } | { ok: false; retryAfterS: number };
 
 export class RateLimiter {
   private readonly buckets = new Map<string, { tokens: number; atMs: number }>();
+  private lastSweepMs = -Infinity;
 
   constructor(
     readonly perMinute: number,
@@ -21,7 +22,11 @@ export class RateLimiter {
     bucket.tokens = Math.min(this.capacity, bucket.tokens + (now - bucket.atMs) * refillPerMs);
     bucket.atMs = now;
     this.buckets.set(key, bucket);
-    if (this.buckets.size > 10_000) this.forgetFull(now);
+    // A sweep costs a pass over every bucket: at most once a minute, and only when there are many.
+    if (this.buckets.size > 10_000 && now - this.lastSweepMs >= 60_000) {
+      this.lastSweepMs = now;
+      this.forgetFull(now);
+    }
     if (bucket.tokens >= 1) {
       bucket.tokens -= 1;
       return { ok: true };
