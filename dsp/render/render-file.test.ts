@@ -1,3 +1,8 @@
+// The render loop against its own contract (issue #4): determinism, block-size
+// independence, latency compensation (an impulse stays at its frame: analytic),
+// the bypass null (bit-exact for float, within 1 LSB at 24 bits with TPDF:
+// analytic bound of the dither), and loudness targeting, measured with our
+// ITU-R BS.1770-4 meter (itself checked against EBU Tech 3341 in dsp/loudness).
 import { readFileSync, readdirSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";

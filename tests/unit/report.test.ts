@@ -1,6 +1,9 @@
 // The loudness report's arithmetic (PLR, normalisation turn-down), its CSV
 // (RFC 4180 quoting, formula-safe text), file names inside the package, and
 // the delivery warnings. Expected values are worked out by hand in comments.
+// PLR = true peak (dBTP) − integrated loudness (LUFS), both per ITU-R BS.1770-4
+// (the definition from memory, as used in loudness reports); the turn-down is
+// integrated − reference, the streaming references being editable settings.
 import { describe, expect, it } from "vitest";
 import { csvField, toCsv } from "../../app/lib/delivery/csv.ts";
 import { safeName, trackFileName, uniqueFolderNames } from "../../app/lib/delivery/file-names.ts";
