@@ -2,6 +2,7 @@ import { describe, expect, it } from "vitest";
 import { Prng } from "../output/prng.ts";
 import { buildChain } from "./build-chain.ts";
 import { parseChain } from "./schema.ts";
+import { roundTripLatency } from "../saturate/oversampler.ts";
 
 const FS = 48000;
 
@@ -48,13 +49,13 @@ describe("chain processors", () => {
     expect(a[0].some((v, i) => Math.abs(v) > 0.1 && i > 9000)).toBe(true);
   });
 
-  it("report latency as the sum of the stages' (oversampler 48 + limiter lookahead 96 + true-peak detector)", () => {
+  it("report latency as the sum of the stages' (oversampler round trip + limiter lookahead 96 + true-peak detector)", () => {
     const parsed = parseChain(input);
     if (!parsed.ok) throw new Error("bad chain");
     const built = buildChain(parsed.chain, FS, 2, 1024);
     const sum = built.stages.reduce((acc, s) => acc + s.processor.latencyFrames, 0);
     expect(built.latencyFrames).toBe(sum);
-    expect(built.stages.find((s) => s.type === "saturate")!.processor.latencyFrames).toBe(48);
+    expect(built.stages.find((s) => s.type === "saturate")!.processor.latencyFrames).toBe(roundTripLatency(4));
     expect(built.stages.find((s) => s.type === "limit")!.processor.latencyFrames).toBeGreaterThan(96);
   });
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { Compressor, type CompressorSettings } from "./compressor.ts";
+import { Compressor, CONTROL_MIN_TIME_MS, controlFrames, controlFramesFor, type CompressorSettings } from "./compressor.ts";
 import { gainReductionDb } from "./gain-computer.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
@@ -193,7 +193,7 @@ describe("auto release on bus compression (our design target: no pumping)", () =
   });
 });
 
-describe("the compressor's block path (reference: RmsDetector → gainReductionDb → GainSmoother, composed here frame by frame)", () => {
+describe("the compressor's per-frame block path (reference: RmsDetector → gainReductionDb → GainSmoother, composed here frame by frame)", () => {
   // Noise whose level steps between −40 and −5 dBFS, so the path crosses the knee, attacks and releases.
   function steppedNoise(frames: number, seed: number, scale: number): Float64Array {
     const x = whiteNoise(frames, seed);
@@ -205,7 +205,9 @@ describe("the compressor's block path (reference: RmsDetector → gainReductionD
     ["fixed release, hard knee", { releaseMs: 80, kneeDb: 0 }],
     ["auto release, 6 dB knee", { releaseMs: "auto" as const, kneeDb: 6 }],
   ])("stereo and mono, %s: reduction within 1e-12 dB, gain within 1e-12 (relative) of the composed reference", (_name, over) => {
-    const s = settings({ thresholdDb: -24, ratio: 3, attackMs: 10, makeupDb: 2, rmsWindowMs: 20, ...over });
+    // A 5 ms attack keeps the per-frame path (the control-rate path needs 10 ms).
+    const s = settings({ thresholdDb: -24, ratio: 3, attackMs: 5, makeupDb: 2, rmsWindowMs: 20, ...over });
+    expect(controlFramesFor(s, FS)).toBe(1);
     const frames = 48000;
     for (const channels of [1, 2]) {
       const input = [steppedNoise(frames, 31, 1), steppedNoise(frames, 32, 0.7)].slice(0, channels);
@@ -233,6 +235,85 @@ describe("the compressor's block path (reference: RmsDetector → gainReductionD
       expect(worstDb).toBeLessThan(1e-12);
       expect(worstGain).toBeLessThan(1e-12);
     }
+  });
+});
+
+describe("the compressor's control-rate path", () => {
+  function steppedNoise(frames: number, seed: number, scale: number): Float64Array {
+    const x = whiteNoise(frames, seed);
+    for (let i = 0; i < frames; i++) x[i] *= scale * 10 ** (-(((i / 4800) | 0) % 8) * 5 / 20) * 0.56;
+    return x;
+  }
+  const base = settings({ thresholdDb: -24, ratio: 3, attackMs: 10, makeupDb: 2, rmsWindowMs: 20, kneeDb: 6 });
+
+  it("is taken when every time constant is at least 10 ms, at about 12 kHz", () => {
+    expect(CONTROL_MIN_TIME_MS).toBe(10);
+    expect([44100, 48000, 88200, 96000, 192000].map(controlFrames)).toEqual([4, 4, 7, 8, 16]);
+    expect(controlFramesFor(base, FS)).toBe(4);
+    expect(controlFramesFor({ ...base, releaseMs: "auto" }, FS)).toBe(4);
+    expect(controlFramesFor({ ...base, attackMs: 9.9 }, FS)).toBe(1);
+    expect(controlFramesFor({ ...base, releaseMs: 5 }, FS)).toBe(1);
+  });
+
+  it.each([
+    ["fixed release", { releaseMs: 80 }],
+    ["auto release", { releaseMs: "auto" as const }],
+  ])("%s: equals the reference composed at the control rate (the curve and smoother on every 4th frame's power, the gain interpolated one group later), for any block size", (_name, over) => {
+    const s = { ...base, ...over };
+    const k = controlFrames(FS);
+    const frames = 24000;
+    const input = [steppedNoise(frames, 41, 1), steppedNoise(frames, 42, 0.7)];
+    const power = new Float64Array(frames);
+    new RmsDetector(FS, 2, s.rmsWindowMs).process(input, frames, power);
+    const smoother = new GainSmoother(FS / k, s.attackMs, s.releaseMs);
+    const control: number[] = [];
+    for (let n = k - 1; n < frames; n += k) control.push(10 ** ((s.makeupDb - smoother.next(gainReductionDb(10 * Math.log10(power[n]), s.thresholdDb, s.ratio, s.kneeDb))) / 20));
+    const makeup = 10 ** (s.makeupDb / 20);
+    // Group m (frames mk … mk+k−1) goes from control value m − 2 to m − 1.
+    const ref = new Float64Array(frames);
+    for (let i = 0; i < frames; i++) {
+      const m = Math.floor(i / k), p = (i % k) + 1;
+      const from = m >= 2 ? control[m - 2] : makeup, to = m >= 1 ? control[m - 1] : makeup;
+      ref[i] = from + (to - from) * (p / k);
+    }
+    for (const block of [480, 333, 1]) {
+      const comp = new Compressor(FS, 2, s, 480);
+      const gain = new Float64Array(frames);
+      for (let off = 0; off < frames; off += block) {
+        const n = Math.min(block, frames - off);
+        comp.gain(input.map((x) => x.subarray(off, off + n)), n, gain.subarray(off, off + n));
+      }
+      let worst = 0;
+      for (let i = 0; i < frames; i++) worst = Math.max(worst, Math.abs(gain[i] / ref[i] - 1));
+      expect(worst).toBeLessThan(1e-12);
+    }
+    expect(Math.min(...control)).toBeLessThan(makeup * 10 ** (-5 / 20));
+  });
+
+  it("follows the per-frame path within 0.05 dB on noise stepping 35 dB up and down (10 ms attack), and within 0.02 dB once the per-frame path is delayed by one control group (measured: 0.022 and 0.014 dB)", () => {
+    const frames = 48000;
+    const input = [steppedNoise(frames, 51, 1)];
+    const grOf = (s: CompressorSettings): Float64Array => {
+      const gr = new Float64Array(frames);
+      const comp = new Compressor(FS, 1, s, 480);
+      for (let off = 0; off < frames; off += 480) comp.detect([input[0].subarray(off, off + 480)], 480, gr.subarray(off, off + 480));
+      return gr;
+    };
+    const control = grOf(base);
+    // The per-frame path with the same settings, forced by composing it from its parts.
+    const power = new Float64Array(frames);
+    new RmsDetector(FS, 1, base.rmsWindowMs).process(input, frames, power);
+    const smoother = new GainSmoother(FS, base.attackMs, base.releaseMs);
+    const perFrame = power.map((p) => smoother.next(gainReductionDb(10 * Math.log10(p), base.thresholdDb, base.ratio, base.kneeDb)));
+    let worst = 0, worstDelayed = 0;
+    for (let i = 4; i < frames; i++) {
+      worst = Math.max(worst, Math.abs(control[i] - perFrame[i]));
+      worstDelayed = Math.max(worstDelayed, Math.abs(control[i] - perFrame[i - 4]));
+    }
+    expect(Math.max(...perFrame)).toBeGreaterThan(8);
+    expect(worst).toBeLessThan(0.05);
+    expect(worstDelayed).toBeLessThan(0.02);
+    expect(worstDelayed).toBeLessThan(worst);
   });
 });
 

@@ -1,87 +1,152 @@
-// 2× / 4× oversampling with cascaded polyphase half-band FIRs.
-//   stage 1 (base ↔ 2×): 79 taps, Kaiser β for 100 dB; transition 0.2083–0.2917
-//     of the 2× rate (20–28 kHz at 48 kHz in), design stopband ≈ −100 dB.
-//   stage 2 (2× ↔ 4×): 35 taps, same β; transition 0.125–0.375 of the 4× rate
-//     (24–72 kHz at 48 kHz in); its images land where stage 1 removes them.
-// Latency: a round trip through one stage delays its input rate by its
-// centre index c = (taps−1)/2 samples. Stage 1: c1 = 39 base frames.
-// Stage 2: c2 = 17 samples at 2×, padded by one 2× sample to 18 = 9 base
-// frames so the total stays whole. 2×: 39 frames; 4×: 48 frames.
+// 2× / 4× oversampling with cascaded half-band all-pass pairs (half-band.ts).
+//   stage 1 (base ↔ 2×): 7 coefficients (order 15), transition 1/12 wide
+//     around a quarter of the 2× rate: flat to 0.2083 of it (20 kHz at
+//     48 kHz in), stopband from 0.2917 (28 kHz), −112 dB.
+//   stage 2 (2× ↔ 4×): 4 coefficients (order 9), transition 0.125–0.375 of
+//     the 4× rate (24–72 kHz at 48 kHz in; its images land where stage 1
+//     removes them), −116 dB.
+// Up by 2: the even high-rate samples are A0(x), the odd ones A1(x) (the
+// zero-stuffed input through 2·H). Down by 2: y[n] = ½·(A0(w_even)[n] +
+// A1(w_odd)[n − 1]). A round trip is then ½·(A0² + z⁻¹·A1²): flat in the
+// passband (to about 1e-9 dB), not linear-phase. Its latency is reported as
+// the position of the round trip's impulse-response peak (roundTripLatency),
+// a few frames, so a transient comes out where it went in.
+// Filter state below FLUSH_BELOW is zeroed every FLUSH_INTERVAL_FRAMES input
+// frames from the stream start (silence must not decay into subnormals; the
+// block size never changes the output).
 
-import { designHalfBand } from "./half-band.ts";
+import { FLUSH_BELOW, FLUSH_INTERVAL_FRAMES } from "../filters/paired-biquad.ts";
+import { designHalfBand, type HalfBandAllPass } from "./half-band.ts";
 
-export const STAGE1_TAPS = 79;
-export const STAGE2_TAPS = 35;
-export const HALF_BAND_STOPBAND_DB = 100;
+export const STAGE1_COEFFS = 7;
+export const STAGE1_TRANSITION = 1 / 12;
+export const STAGE2_COEFFS = 4;
+export const STAGE2_TRANSITION = 0.25;
+
+let stage1: HalfBandAllPass | null = null;
+let stage2: HalfBandAllPass | null = null;
+export function stage1Filter(): HalfBandAllPass {
+  return (stage1 ??= designHalfBand(STAGE1_COEFFS, STAGE1_TRANSITION));
+}
+export function stage2Filter(): HalfBandAllPass {
+  return (stage2 ??= designHalfBand(STAGE2_COEFFS, STAGE2_TRANSITION));
+}
+
+/** Sets every value below FLUSH_BELOW in magnitude to 0. */
+export function flushSmall(state: Float64Array): void {
+  for (let i = 0; i < state.length; i++) if (Math.abs(state[i]) < FLUSH_BELOW) state[i] = 0;
+}
 
 /** One channel's 2× up/down pair around one half-band filter. */
 class HalfBandPair {
-  private readonly sideTaps: Float64Array; // the non-zero off-centre taps, ×2 for up
-  private readonly half: number; // number of non-zero side taps
-  private readonly upHist: Float64Array;
-  private readonly downEven: Float64Array;
-  private readonly downOdd: Float64Array;
-  private readonly centreDelay: number;
+  private readonly a0: Float64Array;
+  private readonly a1: Float64Array;
+  // Up: [0] previous input, then each section's previous output (branch 0, then branch 1).
+  private readonly upState: Float64Array;
+  // Down: [0] previous even input, [1] previous odd input, [2] the odd branch's
+  // last output (the z⁻¹), then the sections' previous outputs.
+  private readonly downState: Float64Array;
+  private upUntilFlush = FLUSH_INTERVAL_FRAMES;
+  private downUntilFlush = FLUSH_INTERVAL_FRAMES;
 
-  constructor(taps: number, maxInFrames: number, private readonly pad: 0 | 1) {
-    const h = designHalfBand(taps, HALF_BAND_STOPBAND_DB);
-    const c = (taps - 1) / 2;
-    // Non-zero side taps sit at even indices n = 0, 2, …, taps−1 (c odd).
-    this.half = (taps + 1) / 2;
-    this.sideTaps = new Float64Array(this.half);
-    for (let j = 0; j < this.half; j++) this.sideTaps[j] = h[2 * j];
-    this.centreDelay = (c - 1) / 2;
-    if (this.half % 2 !== 0) throw new RangeError("the side-tap count must be even for the folded loop");
-    const len = this.half - 1;
-    this.upHist = new Float64Array(len + maxInFrames + 1);
-    this.downEven = new Float64Array(len + maxInFrames + 1);
-    this.downOdd = new Float64Array(len + maxInFrames + 2);
+  constructor(filter: HalfBandAllPass) {
+    this.a0 = filter.branch0;
+    this.a1 = filter.branch1;
+    this.upState = new Float64Array(1 + this.a0.length + this.a1.length);
+    this.downState = new Float64Array(3 + this.a0.length + this.a1.length);
   }
 
   reset(): void {
-    this.upHist.fill(0);
-    this.downEven.fill(0);
-    this.downOdd.fill(0);
+    this.upState.fill(0);
+    this.downState.fill(0);
+    this.upUntilFlush = FLUSH_INTERVAL_FRAMES;
+    this.downUntilFlush = FLUSH_INTERVAL_FRAMES;
   }
 
   /** x (n samples) → y (2n samples at the doubled rate). */
   up(x: Float64Array, n: number, y: Float64Array): void {
-    // The optional pad delays the input by one sample (see the header).
-    const histLen = this.half - 1 + this.pad;
-    const hist = this.upHist;
-    hist.set(x.subarray(0, n), histLen);
-    const taps = this.sideTaps, half = this.half, d = this.centreDelay, fold = half >> 1;
+    const a0 = this.a0, a1 = this.a1, s = this.upState, n0 = a0.length, n1 = a1.length;
     for (let i = 0; i < n; i++) {
-      const cur = histLen + i - this.pad;
-      // Linear phase: tap j equals tap half−1−j, so add the pair first.
-      let acc = 0;
-      const far = cur - half + 1;
-      for (let j = 0; j < fold; j++) acc += taps[j] * (hist[cur - j] + hist[far + j]);
-      y[2 * i] = 2 * acc;
-      y[2 * i + 1] = hist[cur - d];
+      const input = x[i], prev = s[0];
+      let v = input, vp = prev;
+      for (let k = 0; k < n0; k++) {
+        const o = s[1 + k];
+        const out = a0[k] * (v - o) + vp;
+        vp = o;
+        s[1 + k] = out;
+        v = out;
+      }
+      y[2 * i] = v;
+      v = input;
+      vp = prev;
+      for (let k = 0; k < n1; k++) {
+        const o = s[1 + n0 + k];
+        const out = a1[k] * (v - o) + vp;
+        vp = o;
+        s[1 + n0 + k] = out;
+        v = out;
+      }
+      y[2 * i + 1] = v;
+      s[0] = input;
+      if (--this.upUntilFlush === 0) {
+        this.upUntilFlush = FLUSH_INTERVAL_FRAMES;
+        flushSmall(s);
+      }
     }
-    hist.copyWithin(0, n, n + histLen);
   }
 
-  /** u (2n samples) → x (n samples): y[i] = Σ h[2j]·u[2(i−j)] + ½·u[2i − c]. */
+  /** u (2n samples) → x (n samples). */
   down(u: Float64Array, n: number, x: Float64Array): void {
-    const len = this.half - 1;
-    const ev = this.downEven, od = this.downOdd;
+    const a0 = this.a0, a1 = this.a1, s = this.downState, n0 = a0.length, n1 = a1.length;
     for (let i = 0; i < n; i++) {
-      ev[len + i] = u[2 * i];
-      od[len + i] = u[2 * i + 1];
+      const even = u[2 * i], odd = u[2 * i + 1];
+      let v = even, vp = s[0];
+      for (let k = 0; k < n0; k++) {
+        const o = s[3 + k];
+        const out = a0[k] * (v - o) + vp;
+        vp = o;
+        s[3 + k] = out;
+        v = out;
+      }
+      const b0 = v;
+      v = odd;
+      vp = s[1];
+      for (let k = 0; k < n1; k++) {
+        const o = s[3 + n0 + k];
+        const out = a1[k] * (v - o) + vp;
+        vp = o;
+        s[3 + n0 + k] = out;
+        v = out;
+      }
+      x[i] = 0.5 * (b0 + s[2]);
+      s[2] = v;
+      s[0] = even;
+      s[1] = odd;
+      if (--this.downUntilFlush === 0) {
+        this.downUntilFlush = FLUSH_INTERVAL_FRAMES;
+        flushSmall(s);
+      }
     }
-    const taps = this.sideTaps, half = this.half, oddDelay = this.centreDelay + 1, fold = half >> 1;
-    for (let i = 0; i < n; i++) {
-      const cur = len + i;
-      let acc = 0;
-      const far = cur - half + 1;
-      for (let j = 0; j < fold; j++) acc += taps[j] * (ev[cur - j] + ev[far + j]);
-      x[i] = acc + 0.5 * od[cur - oddDelay];
-    }
-    ev.copyWithin(0, n, n + len);
-    od.copyWithin(0, n, n + len);
   }
+}
+
+const latencyCache = new Map<number, number>();
+
+/** Frames from an impulse in to the peak of its round trip (up, down) at this factor. */
+export function roundTripLatency(factor: 2 | 4): number {
+  let l = latencyCache.get(factor);
+  if (l === undefined) {
+    const n = 256;
+    const os = new Oversampler(factor, 1, n, 0);
+    const x = new Float64Array(n);
+    x[0] = 1;
+    os.up(0, x, n);
+    os.down(0, x, n);
+    l = 0;
+    for (let i = 1; i < n; i++) if (Math.abs(x[i]) > Math.abs(x[l])) l = i;
+    latencyCache.set(factor, l);
+  }
+  return l;
 }
 
 export class Oversampler {
@@ -92,14 +157,12 @@ export class Oversampler {
   /** The oversampled buffer of the last `up` call (factor·frames samples). */
   readonly high: Float64Array;
 
-  constructor(readonly factor: 2 | 4, channels: number, maxBlockFrames: number) {
-    this.stage1 = Array.from({ length: channels }, () => new HalfBandPair(STAGE1_TAPS, maxBlockFrames, 0));
-    this.stage2 = factor === 4 ? Array.from({ length: channels }, () => new HalfBandPair(STAGE2_TAPS, 2 * maxBlockFrames, 1)) : [];
+  constructor(readonly factor: 2 | 4, channels: number, maxBlockFrames: number, latencyFrames = roundTripLatency(factor)) {
+    this.stage1 = Array.from({ length: channels }, () => new HalfBandPair(stage1Filter()));
+    this.stage2 = factor === 4 ? Array.from({ length: channels }, () => new HalfBandPair(stage2Filter())) : [];
     this.mid = new Float64Array(2 * maxBlockFrames);
     this.high = new Float64Array(factor * maxBlockFrames);
-    const c1 = (STAGE1_TAPS - 1) / 2;
-    const c2 = (STAGE2_TAPS - 1) / 2;
-    this.latencyFrames = factor === 2 ? c1 : c1 + (c2 + 1) / 2;
+    this.latencyFrames = latencyFrames;
   }
 
   reset(): void {

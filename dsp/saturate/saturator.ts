@@ -4,7 +4,12 @@
 // by a fixed compensation computed for a reference sine (1 kHz-independent:
 // a sine's RMS through a static curve depends only on its peak) at
 // REFERENCE_PEAK_DB, so `blend` changes colour, not loudness, at that level.
-// The dry path is delayed by the oversampler's latency so the two line up.
+// Dry and wet are mixed at the high rate, before the down filter: the
+// half-band filters are not linear-phase, and this way the dry path goes
+// through exactly the same filters as the wet one, so the blend never
+// combs. (At blend 0 the stage is the oversampler's round trip: flat in
+// magnitude to 20 kHz, a few frames of latency, a little phase shift near
+// the top of the band.)
 // 2× runs as one fused pass (Saturate2x: same filters, same curve); 4× goes
 // through the Oversampler's buffers.
 
@@ -44,28 +49,21 @@ export class Saturator implements Processor {
   private readonly drive: number;
   private readonly wetGain: number;
   private readonly dryGain: number;
-  private readonly dryDelay: Float64Array[];
-  private readonly wet: Float64Array;
-  private readonly delayFrames: number;
 
   constructor(sampleRate: number, readonly channels: number, settings: SaturatorSettings, maxBlockFrames: number) {
-    this.fused2x = settings.oversample === 2 ? new Saturate2x(channels, maxBlockFrames) : null;
+    this.fused2x = settings.oversample === 2 ? new Saturate2x(channels) : null;
     this.oversampler = this.fused2x ? null : new Oversampler(settings.oversample, channels, maxBlockFrames);
     this.latencyFrames = this.fused2x ? this.fused2x.latencyFrames : this.oversampler!.latencyFrames;
-    this.delayFrames = this.latencyFrames;
     this.drive = dbToLinear(settings.driveDb);
     const blend = Math.min(1, Math.max(0, settings.blend));
     this.wetGain = (blend * levelCompensation(this.drive, dbToLinear(REFERENCE_PEAK_DB))) / this.drive;
     this.dryGain = 1 - blend;
-    this.dryDelay = this.fused2x ? [] : Array.from({ length: channels }, () => new Float64Array(this.delayFrames + maxBlockFrames));
-    this.wet = new Float64Array(this.fused2x ? 0 : maxBlockFrames);
     void sampleRate; // the curve is rate-independent; kept for the common constructor shape
   }
 
   reset(): void {
     this.fused2x?.reset();
     this.oversampler?.reset();
-    for (const d of this.dryDelay) d.fill(0);
   }
 
   process(channels: Planar, frames: number): void {
@@ -74,17 +72,15 @@ export class Saturator implements Processor {
       return;
     }
     const os = this.oversampler!, drive = this.drive, wetGain = this.wetGain, dryGain = this.dryGain;
-    const delay = this.delayFrames, wet = this.wet;
     for (let c = 0; c < this.channels; c++) {
       const x = channels[c];
       const high = os.up(c, x, frames);
       const n = frames * os.factor;
-      for (let i = 0; i < n; i++) high[i] = softClip(drive * high[i]);
-      os.down(c, wet, frames);
-      const line = this.dryDelay[c];
-      line.set(x.subarray(0, frames), delay);
-      for (let i = 0; i < frames; i++) x[i] = dryGain * line[i] + wetGain * wet[i];
-      line.copyWithin(0, frames, frames + delay);
+      for (let i = 0; i < n; i++) {
+        const v = high[i];
+        high[i] = dryGain * v + wetGain * softClip(drive * v);
+      }
+      os.down(c, x, frames);
     }
   }
 }
