@@ -145,27 +145,39 @@ describe("saturator", () => {
     expect(Math.abs(toneDb(y, 1000, 3000, 440) - toneDb(x, 1000, 3000, 440))).toBeLessThan(0.001);
   });
 
-  it("2× (one fused pass) equals its definition: oversampler up, dry/wet mix of the curve at the high rate, down", () => {
+  it.each([2, 4] as const)("%d× (one fused pass) equals its definition, bit for bit: oversampler up, dry/wet mix of the curve at the high rate, down", (factor) => {
     const driveDb = 9, blend = 0.4, block = 333;
     const drive = 10 ** (driveDb / 20);
     const wetGain = (blend * levelCompensation(drive, 10 ** (REFERENCE_PEAK_DB / 20))) / drive;
     const x = [sine(9000, 7000, 0.9), sine(9000, 150, 0.6).map((v, i) => v + 0.3 * Math.sin(i * 1.7))];
-    const sat = new Saturator(FS, 2, { driveDb, blend, oversample: 2 }, block);
+    const sat = new Saturator(FS, 2, { driveDb, blend, oversample: factor }, block);
     const y = x.map((c) => c.slice());
     for (let off = 0; off < 9000; off += block) {
       const n = Math.min(block, 9000 - off);
       sat.process(y.map((c) => c.subarray(off, off + n)), n);
     }
-    const os = new Oversampler(2, 2, 9000);
-    const L = os.latencyFrames;
-    expect(sat.latencyFrames).toBe(L);
+    const os = new Oversampler(factor, 2, 9000);
+    expect(sat.latencyFrames).toBe(os.latencyFrames);
     for (let c = 0; c < 2; c++) {
       const ref = new Float64Array(9000);
       const high = os.up(c, x[c], 9000);
-      for (let i = 0; i < 18000; i++) high[i] = (1 - blend) * high[i] + wetGain * softClip(drive * high[i]);
+      for (let i = 0; i < 9000 * factor; i++) high[i] = (1 - blend) * high[i] + wetGain * softClip(drive * high[i]);
       os.down(c, ref, 9000);
       for (let i = 0; i < 9000; i++) expect(y[c][i]).toBe(ref[i]);
     }
+  });
+
+  it.each([2, 4] as const)("%d×: silence after a loud passage decays to exact zeros (no subnormal numbers), the same for any block size", (factor) => {
+    const frames = 60000;
+    const x = new Float64Array(frames);
+    x.set(sine(2000, 3000, 0.9));
+    const a = run(new Saturator(FS, 1, { driveDb: 12, blend: 0.5, oversample: factor }, 1000), x, 1000);
+    const b = run(new Saturator(FS, 1, { driveDb: 12, blend: 0.5, oversample: factor }, 1000), x, 333);
+    expect(Array.from(b)).toEqual(Array.from(a));
+    // Left alone the slowest all-pass (a ≈ 0.91) would take about 7,700
+    // frames to underflow through the subnormals; flushed, 3,000 is plenty.
+    expect(a.subarray(5000).every((v) => v === 0)).toBe(true);
+    expect(Math.max(...a.subarray(2000, 2100).map(Math.abs))).toBeGreaterThan(1e-6);
   });
 
   it.each([2, 4] as const)("aliasing at %d×: the 3rd harmonic of a 15 kHz tone (45 kHz → alias at 3 kHz) is far lower than without oversampling", (factor) => {
