@@ -23,7 +23,9 @@
 // rate, so its step response keeps its time constants. Control points sit
 // at fixed positions counted from the stream start: the block size never
 // changes the result. Faster settings keep the per-frame path. The
-// detector always runs per frame. Tests hold the control-rate path to a
+// detector's one-pole still sees every frame, but is read only at group
+// ends (rms-detector-control.ts: the recursion in closed form per group).
+// Tests hold the control-rate path to a
 // reference composed at the control rate (to 1e-12) and to the per-frame
 // path (see compressor.test.ts).
 
@@ -31,6 +33,7 @@ import { fastExp2, fastLog2 } from "../fast-math.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import { AUTO_FAST_RELEASE_MS, GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
+import { ControlRateRmsDetector } from "./rms-detector-control.ts";
 
 export interface CompressorSettings {
   thresholdDb: number;
@@ -67,7 +70,11 @@ export function controlFramesFor(settings: CompressorSettings, sampleRate: numbe
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
   readonly traceNames: readonly string[] = ["gr"];
-  private readonly detector: RmsDetector;
+  /** The per-frame path's detector (null on the control-rate path). */
+  private readonly detector: RmsDetector | null;
+  /** The control-rate path's detector (null on the per-frame path). */
+  private readonly controlDetector: ControlRateRmsDetector | null;
+  private readonly maxScratch = new Float64Array(1);
   private readonly smoother: GainSmoother;
   private readonly power: Float64Array;
   private readonly gainBuffer: Float64Array;
@@ -97,8 +104,10 @@ export class Compressor implements Processor, GainReductionSource {
     settings: CompressorSettings,
     maxBlockFrames: number,
   ) {
-    this.detector = new RmsDetector(sampleRate, channels, settings.rmsWindowMs, settings.sidechainHighPassHz ?? null);
     this.controlFrames = controlFramesFor(settings, sampleRate);
+    const highPassHz = settings.sidechainHighPassHz ?? null;
+    this.detector = this.controlFrames > 1 ? null : new RmsDetector(sampleRate, channels, settings.rmsWindowMs, highPassHz);
+    this.controlDetector = this.controlFrames > 1 ? new ControlRateRmsDetector(sampleRate, channels, settings.rmsWindowMs, highPassHz, this.controlFrames) : null;
     // At the control rate the smoother steps once per group: its coefficients are those of the control rate.
     this.smoother = new GainSmoother(sampleRate / this.controlFrames, settings.attackMs, settings.releaseMs);
     const controlLength = this.controlFrames > 1 ? Math.ceil(maxBlockFrames / this.controlFrames) + 1 : 0;
@@ -117,7 +126,8 @@ export class Compressor implements Processor, GainReductionSource {
   }
 
   reset(): void {
-    this.detector.reset();
+    this.detector?.reset();
+    this.controlDetector?.reset();
     this.smoother.reset();
     this.maxReductionDb = 0;
     this.phase = 0;
@@ -193,7 +203,7 @@ export class Compressor implements Processor, GainReductionSource {
    * envelopes at 0, so that the reduction is exactly 0 throughout.
    */
   private reduction(input: Planar, frames: number, outDb: Float64Array): boolean {
-    const maxPower = this.detector.process(input, frames, this.power);
+    const maxPower = this.detector!.process(input, frames, this.power);
     if (!(maxPower > this.kneeStartPower) && this.smoother.atRest) return true;
     this.reductionFromPower(this.power, frames, outDb);
     return false;
@@ -225,13 +235,9 @@ export class Compressor implements Processor, GainReductionSource {
    * (no reduction anywhere: the caller fills in the makeup gain).
    */
   private controlBlock(input: Planar, frames: number): number {
-    const k = this.controlFrames;
-    const maxPower = this.detector.process(input, frames, this.power);
-    if (!(maxPower > this.kneeStartPower) && this.smoother.atRest && this.prevDb === 0 && this.curDb === 0) return -1;
-    const first = k - 1 - this.phase;
-    const count = first < frames ? Math.floor((frames - 1 - first) / k) + 1 : 0;
-    const power = this.power, db = this.controlDb, gain = this.controlGain;
-    for (let j = 0; j < count; j++) db[j] = power[first + j * k];
+    const db = this.controlDb, gain = this.controlGain;
+    const count = this.controlDetector!.process(input, frames, db, this.maxScratch);
+    if (!(this.maxScratch[0] > this.kneeStartPower) && this.smoother.atRest && this.prevDb === 0 && this.curDb === 0) return -1;
     this.reductionFromPower(db, count, db);
     const makeup = this.makeupDb;
     for (let j = 0; j < count; j++) gain[j] = fastExp2((makeup - db[j]) * DB_TO_LOG2_GAIN);
@@ -241,10 +247,14 @@ export class Compressor implements Processor, GainReductionSource {
   /** Per frame: from prev to cur over each control group, then on to the next control value (one per completed group). */
   private interpolate(out: Float64Array, frames: number, values: Float64Array, prev: number, cur: number): void {
     const k = this.controlFrames, step = 1 / k;
-    let p = this.phase, j = 0;
-    for (let i = 0; i < frames; i++) {
-      p++;
-      out[i] = prev + (cur - prev) * (p * step);
+    let i = 0, j = 0, p = this.phase;
+    // Group by group: the rest of the current one, then whole ones, then the start of the last.
+    while (i < frames) {
+      const d = (cur - prev) * step;
+      const n = Math.min(k - p, frames - i);
+      for (let t = 1; t <= n; t++) out[i + t - 1] = prev + d * (p + t);
+      i += n;
+      p += n;
       if (p === k) {
         p = 0;
         prev = cur;
