@@ -53,6 +53,7 @@ export class Limiter implements Processor, GainReductionSource {
   private envelope = 1;
   private readonly delay: Float64Array[];
   private readonly peaks: Float64Array;
+  private readonly gained: Float64Array[];
   private minGain = 1;
 
   constructor(
@@ -77,6 +78,7 @@ export class Limiter implements Processor, GainReductionSource {
     this.boxcar = new Float64Array(this.boxLength);
     this.delay = Array.from({ length: channels }, () => new Float64Array(this.delayFrames + maxBlockFrames));
     this.peaks = new Float64Array(maxBlockFrames);
+    this.gained = this.delay.map((d) => d.subarray(0, 0));
     this.reset();
   }
 
@@ -93,23 +95,22 @@ export class Limiter implements Processor, GainReductionSource {
 
   process(channels: Planar, frames: number): void {
     const nch = this.channels, delayFrames = this.delayFrames, g0 = this.inputGain;
+    // The gained input goes only into the delay lines; detection reads it there.
+    const gained = this.gained;
     for (let c = 0; c < nch; c++) {
       const x = channels[c];
       const line = this.delay[c];
-      for (let i = 0; i < frames; i++) {
-        const v = x[i] * g0;
-        x[i] = v;
-        line[delayFrames + i] = v;
-      }
+      for (let i = 0; i < frames; i++) line[delayFrames + i] = x[i] * g0;
+      gained[c] = line.subarray(delayFrames, delayFrames + frames);
     }
     const gain = this.peaks; // peaks, then required gains, then the held minimum, then the gain
     // The detector's points include the sample itself (its phase 0, at the detector's delay). Under
     // the ceiling the required gain is 1 whatever the peak, so only peaks above it need to be exact.
-    if (this.detector) this.detector.processPerFrame(channels, frames, gain, this.ceiling);
+    if (this.detector) this.detector.processPerFrame(gained, frames, gain, this.ceiling);
     else {
       gain.fill(0, 0, frames);
       for (let c = 0; c < nch; c++) {
-        const x = channels[c];
+        const x = gained[c];
         for (let i = 0; i < frames; i++) {
           const a = Math.abs(x[i]);
           if (a > gain[i]) gain[i] = a;
