@@ -4,6 +4,9 @@
 // Block flow: reads of READ_FRAMES frames are cut into chunks of one trace
 // grid step (10 ms), so every processor sees the same chunk boundaries
 // whatever the read size and the gain-reduction traces land on a fixed grid.
+// A chunk is processed in place in the read buffer (only one that straddles
+// two reads is gathered into a buffer of its own), then metered and written
+// from there: no copies on the way.
 // Latency: the chain's total latency L (sum of its stages') is compensated
 // here: L frames of zeros are fed after the input and the first L output
 // frames are dropped, so the output has the input's length and alignment.
@@ -192,9 +195,10 @@ async function renderPass(
 
   const readBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
   const spareBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
+  // A chunk that straddles two reads (or the zero tail) is gathered here;
+  // every other chunk is processed in place in the read buffer (views).
   const chunk = Array.from({ length: nch }, () => new Float64Array(gridFrames));
-  const outBufs = Array.from({ length: nch }, () => new Float64Array(READ_FRAMES));
-  let outFill = 0;
+  const views: Float64Array[] = Array.from({ length: nch }, () => new Float64Array(0));
   let chunkFill = 0;
   let dropLeft = latency;
   let written = 0;
@@ -203,17 +207,10 @@ async function renderPass(
   const grScratch = grStages.map((s) => new Float64Array(s.gainReduction!.traceNames.length));
   const grTraces = grStages.map((s) => s.gainReduction!.traceNames.map(() => [] as number[]));
 
-  const flush = async (): Promise<void> => {
-    if (outFill === 0) return;
-    meterOut.process(outBufs, outFill);
-    await writer.write(outBufs, outFill);
-    written += outFill;
-    outFill = 0;
-  };
-
-  const processChunk = async (frames: number): Promise<void> => {
-    for (const s of built.stages) s.processor.process(chunk, frames);
-    quantizer.process(chunk, frames);
+  /** The chain, the quantizer and the traces on one chunk, in place; then its kept frames metered and written. */
+  const processChunk = async (data: Float64Array[], frames: number): Promise<void> => {
+    for (const s of built.stages) s.processor.process(data, frames);
+    quantizer.process(data, frames);
     for (let g = 0; g < grStages.length; g++) {
       grStages[g].gainReduction!.takeGainReductionDb(grScratch[g]);
       for (let t = 0; t < grScratch[g].length; t++) grTraces[g][t].push(grScratch[g][t]);
@@ -224,20 +221,24 @@ async function renderPass(
       dropLeft -= from;
     }
     // Never write past the input's length (the zero tail only flushes the latency).
-    const keep = Math.min(frames - from, totalFrames - written - outFill);
-    for (let i = 0; i < keep; ) {
-      const n = Math.min(keep - i, READ_FRAMES - outFill);
-      for (let c = 0; c < nch; c++) outBufs[c].set(chunk[c].subarray(from + i, from + i + n), outFill);
-      outFill += n;
-      i += n;
-      if (outFill === READ_FRAMES) await flush();
-    }
+    const keep = Math.min(frames - from, totalFrames - written);
+    if (keep <= 0) return;
+    const out = from === 0 ? data : data.map((d) => d.subarray(from, from + keep));
+    meterOut.process(out, keep);
+    await writer.write(out, keep);
+    written += keep;
   };
 
   /** Feeds n frames from src (offset off) into the chunked chain. */
   const feed = async (src: Float64Array[] | null, off: number, n: number): Promise<void> => {
     let i = 0;
     while (i < n) {
+      if (src && chunkFill === 0 && n - i >= gridFrames) {
+        for (let c = 0; c < nch; c++) views[c] = src[c].subarray(off + i, off + i + gridFrames);
+        await processChunk(views, gridFrames);
+        i += gridFrames;
+        continue;
+      }
       const k = Math.min(n - i, gridFrames - chunkFill);
       for (let c = 0; c < nch; c++) {
         if (src) chunk[c].set(src[c].subarray(off + i, off + i + k), chunkFill);
@@ -246,7 +247,7 @@ async function renderPass(
       chunkFill += k;
       i += k;
       if (chunkFill === gridFrames) {
-        await processChunk(gridFrames);
+        await processChunk(chunk, gridFrames);
         chunkFill = 0;
       }
     }
@@ -284,8 +285,7 @@ async function renderPass(
       }
     }
     await feed(null, 0, latency);
-    if (chunkFill > 0) await processChunk(chunkFill);
-    await flush();
+    if (chunkFill > 0) await processChunk(chunk, chunkFill);
     await writer.close();
   } finally {
     await reader.close();
