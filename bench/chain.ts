@@ -133,13 +133,20 @@ export async function run(): Promise<void> {
     const rssBefore = process.memoryUsage().rss;
     let peakRss = rssBefore;
     const timer = setInterval(() => (peakRss = Math.max(peakRss, process.memoryUsage().rss)), 50);
-    const t0 = performance.now();
-    const res = await renderFile(input, join(dir, "out.wav"), chain);
-    const ms = performance.now() - t0;
+    // Three renders, the best one reported (as for the stages below): on a
+    // shared machine the spread is the neighbours' load, not the code's. All three are printed.
+    const times: number[] = [];
+    let res!: Awaited<ReturnType<typeof renderFile>>;
+    for (let run = 0; run < 3; run++) {
+      const t0 = performance.now();
+      res = await renderFile(input, join(dir, "out.wav"), chain);
+      times.push(performance.now() - t0);
+    }
+    const ms = Math.min(...times);
     clearInterval(timer);
     peakRss = Math.max(peakRss, process.memoryUsage().rss);
     console.log(`chain: ${MINUTES} min stereo 48 kHz 24-bit, full chain + input/output analysis (true peak)`);
-    console.log(`  render ${(ms / 1000).toFixed(2)} s, ${(seconds / (ms / 1000)).toFixed(1)}x real time, ${((ms * 1e6) / (seconds * FS * 2)).toFixed(1)} ns per sample per channel (all stages)`);
+    console.log(`  render ${(ms / 1000).toFixed(2)} s, ${(seconds / (ms / 1000)).toFixed(1)}x real time, ${((ms * 1e6) / (seconds * FS * 2)).toFixed(1)} ns per sample per channel (all stages; best of 3 renders: ${times.map((t) => (seconds / (t / 1000)).toFixed(1) + "x").join(", ")})`);
     console.log(`  peak RSS ${(peakRss / 2 ** 20).toFixed(0)} MB (before render ${(rssBefore / 2 ** 20).toFixed(0)} MB)`);
     console.log(`  output ${res.output.integratedLufs.toFixed(2)} LUFS, ${res.output.truePeakDbtp.toFixed(2)} dBTP`);
     console.log("  per stage (10 s of noise in memory, best of 5), ns per sample per channel:");
