@@ -97,6 +97,7 @@ export class Compressor implements Processor, GainReductionSource {
   private curDb = 0;
   private prevGain: number;
   private curGain: number;
+  private pendingCount = 0;
 
   constructor(
     sampleRate: number,
@@ -147,6 +148,47 @@ export class Compressor implements Processor, GainReductionSource {
     if (this.reduction(channels, frames, outDb)) outDb.fill(0, 0, frames);
   }
 
+  /**
+   * The control-rate path in two halves, for a caller that applies the gain
+   * in a loop of its own (the multiband sum): beginControl runs the detector
+   * and writes the block's control gains (one per group end, makeup
+   * included) into `controlGains`; the caller interpolates from
+   * controlPhase / controlPrevGain / controlCurGain exactly as gain() does
+   * (g = prev + (cur − prev)·(1/k)·p for the p-th frame of a group, then on
+   * to the next value); endControl then moves the state on. Only on the
+   * control-rate path (controlFrames > 1).
+   */
+  beginControl(input: Planar, frames: number): void {
+    const count = this.controlBlock(input, frames);
+    if (count < 0) {
+      // At rest: every value is the makeup gain (prev and cur are too).
+      const k = this.controlFrames, first = k - 1 - this.phase;
+      const ends = first < frames ? Math.floor((frames - 1 - first) / k) + 1 : 0;
+      this.controlGain.fill(this.makeupGain, 0, ends);
+    }
+    this.pendingCount = count;
+  }
+
+  endControl(frames: number): void {
+    this.advance(frames, this.pendingCount);
+  }
+
+  get controlGains(): Float64Array {
+    return this.controlGain;
+  }
+
+  get controlPhase(): number {
+    return this.phase;
+  }
+
+  get controlPrevGain(): number {
+    return this.prevGain;
+  }
+
+  get controlCurGain(): number {
+    return this.curGain;
+  }
+
   /** Linear gain per frame (makeup included) into `out`, no audio change. */
   gain(channels: Planar, frames: number, out: Float64Array): void {
     if (this.controlFrames > 1) {
@@ -161,6 +203,13 @@ export class Compressor implements Processor, GainReductionSource {
   }
 
   process(channels: Planar, frames: number): void {
+    if (this.controlFrames > 1 && this.channels === 2) {
+      // Stereo: the gain interpolated and applied in one loop (gain()'s arithmetic).
+      this.beginControl(channels, frames);
+      applyInterpolated(channels[0], channels[1], frames, this.controlFrames, this.phase, this.prevGain, this.curGain, this.controlGain);
+      this.endControl(frames);
+      return;
+    }
     if (this.controlFrames > 1) {
       const g = this.gainBuffer;
       this.gain(channels, frames, g);
@@ -288,5 +337,27 @@ export class Compressor implements Processor, GainReductionSource {
   takeGainReductionDb(out: Float64Array): void {
     out[0] = this.maxReductionDb;
     this.maxReductionDb = 0;
+  }
+}
+
+/** l, r ×= the interpolated control gain, group by group as Compressor.interpolate computes it. */
+function applyInterpolated(l: Float64Array, r: Float64Array, frames: number, k: number, phase: number, prev: number, cur: number, values: Float64Array): void {
+  const step = 1 / k;
+  let i = 0, j = 0, p = phase;
+  while (i < frames) {
+    const d = (cur - prev) * step;
+    const n = Math.min(k - p, frames - i);
+    for (let t = 1; t <= n; t++) {
+      const g = prev + d * (p + t), f = i + t - 1;
+      l[f] *= g;
+      r[f] *= g;
+    }
+    i += n;
+    p += n;
+    if (p === k) {
+      p = 0;
+      prev = cur;
+      cur = values[j++];
+    }
   }
 }

@@ -33,6 +33,8 @@ export class MultibandCompressor implements Processor, GainReductionSource {
   private readonly gains: Float64Array[];
   /** The audible bands' indices, in order (the first `audibleCount` entries). */
   private readonly order: Int32Array;
+  /** Four stereo bands, all compressed on the control-rate path with one step: see sumFourStereoInterpolated. */
+  private readonly fusedControl: boolean;
 
   constructor(sampleRate: number, readonly channels: number, settings: MultibandSettings, maxBlockFrames: number) {
     if (settings.bands.length !== settings.crossoversHz.length + 1) {
@@ -46,6 +48,8 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     this.scratch = new Float64Array(maxBlockFrames);
     this.gains = settings.bands.map(() => new Float64Array(maxBlockFrames).fill(1));
     this.order = new Int32Array(settings.bands.length);
+    const k0 = this.compressors[0]?.controlFrames ?? 1;
+    this.fusedControl = channels === 2 && settings.bands.length === 4 && !anySolo && k0 > 1 && this.compressors.every((c) => c !== null && c.controlFrames === k0);
   }
 
   reset(): void {
@@ -56,6 +60,15 @@ export class MultibandCompressor implements Processor, GainReductionSource {
   process(channels: Planar, frames: number): void {
     this.splitter.split(channels, frames);
     const bands = this.splitter.bands;
+    if (this.fusedControl) {
+      // The usual case: four stereo bands on the control-rate path, their
+      // gains interpolated inside the summing loop (no gain arrays).
+      const [a, b, c, d] = this.compressors as Compressor[];
+      for (let k = 0; k < 4; k++) (this.compressors[k] as Compressor).beginControl(bands[k], frames);
+      sumFourStereoInterpolated(channels, bands, a, b, c, d, frames);
+      for (let k = 0; k < 4; k++) (this.compressors[k] as Compressor).endControl(frames);
+      return;
+    }
     let audibleCount = 0;
     for (let b = 0; b < bands.length; b++) {
       const comp = this.compressors[b];
@@ -95,6 +108,44 @@ export class MultibandCompressor implements Processor, GainReductionSource {
         comp.takeGainReductionDb(this.one);
         out[b] = this.one[0];
       } else out[b] = 0;
+    }
+  }
+}
+
+/**
+ * sumFourStereo with each band's gain interpolated from its compressor's
+ * control values on the way, group by group, with the arithmetic of
+ * Compressor.gain() (so the result is the same to the bit as gain() into
+ * arrays, then sumFourStereo). The four compressors share their control
+ * step and phase: they were made together and see the same frames.
+ */
+function sumFourStereoInterpolated(out: Float64Array[], bands: Float64Array[][], a: Compressor, b: Compressor, c: Compressor, d: Compressor, frames: number): void {
+  const ol = out[0], or = out[1];
+  const al = bands[0][0], ar = bands[0][1], bl = bands[1][0], br = bands[1][1];
+  const cl = bands[2][0], cr = bands[2][1], dl = bands[3][0], dr = bands[3][1];
+  const va = a.controlGains, vb = b.controlGains, vc = c.controlGains, vd = d.controlGains;
+  const k = a.controlFrames, step = 1 / k;
+  let pa = a.controlPrevGain, ca = a.controlCurGain, pb = b.controlPrevGain, cb = b.controlCurGain;
+  let pc = c.controlPrevGain, cc = c.controlCurGain, pd = d.controlPrevGain, cd = d.controlCurGain;
+  let p = a.controlPhase, i = 0, j = 0;
+  while (i < frames) {
+    const da = (ca - pa) * step, db = (cb - pb) * step, dc = (cc - pc) * step, dd = (cd - pd) * step;
+    const n = Math.min(k - p, frames - i);
+    for (let t = 1; t <= n; t++) {
+      const q = p + t, f = i + t - 1;
+      const gi = pa + da * q, hi = pb + db * q, ui = pc + dc * q, vi = pd + dd * q;
+      ol[f] = al[f] * gi + bl[f] * hi + (cl[f] * ui + dl[f] * vi);
+      or[f] = ar[f] * gi + br[f] * hi + (cr[f] * ui + dr[f] * vi);
+    }
+    i += n;
+    p += n;
+    if (p === k) {
+      p = 0;
+      pa = ca; ca = va[j];
+      pb = cb; cb = vb[j];
+      pc = cc; cc = vc[j];
+      pd = cd; cd = vd[j];
+      j++;
     }
   }
 }
