@@ -106,7 +106,8 @@ describe("worker", () => {
   });
 
   it("cancels a running render: it stops, stays cancelled and stores nothing", async () => {
-    const long = await uploadTestMix(fixture, scratch, "low-water-long.wav", { seconds: 40, channels: 2 });
+    // Long enough (about 4 s of work with its three loudness passes) that the cancel lands mid-render.
+    const long = await uploadTestMix(fixture, scratch, "low-water-long.wav", { seconds: 120, channels: 2 });
     const render = await createRender({ mixId: long.id, chainRevisionId: revision.id, kind: "print", targetLufs: -14 });
     await waitFor(async () => {
       const status = await getRenderStatus(render.id);
