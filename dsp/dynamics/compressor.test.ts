@@ -78,6 +78,17 @@ describe("time constants (analytic one-pole step response: 1 − 1/e at τ)", ()
     expect(Math.abs(frames / FS - releaseMs / 1000)).toBeLessThan((0.02 * releaseMs) / 1000 + 1 / FS);
   });
 
+  it.each([10, 80, 300])("on the control-rate path (a step every 4 frames): attack %d ms and release 10× longer, within 2% plus one step", (attackMs) => {
+    const k = controlFrames(FS), rate = FS / k;
+    const releaseMs = 10 * attackMs;
+    const s = new GainSmoother(rate, attackMs, releaseMs);
+    const steps = crossing(() => s.next(10), (v) => v >= 10 * (1 - 1 / Math.E));
+    expect(Math.abs(steps / rate - attackMs / 1000)).toBeLessThan((0.02 * attackMs) / 1000 + 1 / rate);
+    for (let i = 0; i < rate * 10; i++) s.next(10);
+    const back = crossing(() => s.next(0), (v) => v <= 10 / Math.E);
+    expect(Math.abs(back / rate - releaseMs / 1000)).toBeLessThan((0.02 * releaseMs) / 1000 + 1 / rate);
+  });
+
   it("RMS detector follows P·(1 − a^(n+1)) on a level step", () => {
     const windowMs = 20;
     const d = new RmsDetector(FS, 2, windowMs);
