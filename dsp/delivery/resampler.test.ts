@@ -142,6 +142,14 @@ describe("resampler: streaming", () => {
     }
   });
 
+  it("stereo (both channels in one loop) equals each channel converted on its own, bit for bit", () => {
+    const input = [seededNoise(9000, 3), seededNoise(9000, 4)];
+    for (const [inputRate, outputRate] of [[48000, 44100], [96000, 48000]]) {
+      const both = convertInBlocks(input, inputRate, outputRate, [512]);
+      for (let ch = 0; ch < 2; ch++) expect(convertInBlocks([input[ch]], inputRate, outputRate, [512])[0]).toEqual(both[ch]);
+    }
+  });
+
   it("outputs round(inputFrames x ratio) frames", () => {
     const ratios = [[48000, 44100], [44100, 48000], [96000, 48000], [44100, 192000], [192000, 44100], [88200, 96000]];
     for (const [inputRate, outputRate] of ratios) {

@@ -254,7 +254,29 @@ export class Resampler {
     while (count < limit && index + halfTaps < available) {
       const base = index - halfTaps + 1 - this.historyStart;
       const coeffBase = phase * taps;
-      for (let ch = 0; ch < channels; ch++) {
+      if (channels === 2) {
+        // Both channels in one loop: each coefficient is read once for the two
+        // (reads, not multiplies, are what this loop waits on). Per channel the
+        // same four sums in the same order as below, so the result is too.
+        const x = history[0], y = history[1];
+        let acc0 = 0, acc1 = 0, acc2 = 0, acc3 = 0;
+        let bcc0 = 0, bcc1 = 0, bcc2 = 0, bcc3 = 0;
+        for (let k = 0; k < taps; k += 4) {
+          const c = coeffBase + k;
+          const i = base + k;
+          const h0 = table[c], h1 = table[c + 1], h2 = table[c + 2], h3 = table[c + 3];
+          acc0 += h0 * x[i];
+          acc1 += h1 * x[i + 1];
+          acc2 += h2 * x[i + 2];
+          acc3 += h3 * x[i + 3];
+          bcc0 += h0 * y[i];
+          bcc1 += h1 * y[i + 1];
+          bcc2 += h2 * y[i + 2];
+          bcc3 += h3 * y[i + 3];
+        }
+        output[0][offset + count] = acc0 + acc1 + (acc2 + acc3);
+        output[1][offset + count] = bcc0 + bcc1 + (bcc2 + bcc3);
+      } else for (let ch = 0; ch < channels; ch++) {
         const x = history[ch];
         let acc0 = 0;
         let acc1 = 0;
