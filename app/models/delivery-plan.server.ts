@@ -3,9 +3,9 @@
 // the master the client approved:
 // - the approved render itself when it is a finished print;
 // - when the client approved a preview, the newest finished print of the same
-//   mix version, chain revision and loudness target, if one exists (it was
-//   made before the approval: a render finishing after an approval clears it,
-//   see app/lib/review/state.ts).
+//   mix version, chain revision and loudness target, if one exists (made
+//   before or after the approval: rendering the approved master again keeps
+//   the approval, see app/lib/review/state.ts).
 // The review state is derived as on the review pages (getTrackReview).
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
@@ -26,7 +26,7 @@ export type TrackDeliveryPlan = {
 };
 
 const NOT_APPROVED: Record<Exclude<ReviewStatus, "approved">, string> = {
-  in_progress: "Not approved yet: no master is under review (nothing sent, or a newer mix or render came after the last verdict).",
+  in_progress: "Not approved yet: no master is under review (nothing sent, or a newer mix, or a render of another master, came after the last verdict).",
   sent: "Not approved yet: the client has not given a verdict on the master sent for review.",
   changes_asked: "Not approved: the client asked for changes.",
 };

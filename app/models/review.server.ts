@@ -10,7 +10,7 @@ import { db } from "../lib/db.server.ts";
 import { queueEmail } from "../lib/mail/mailer.server.ts";
 import { approvedEmail, changesRequestedEmail, renderForReviewEmail } from "../lib/mail/templates.server.ts";
 import { whereRenderVisible } from "../lib/render-visibility.server.ts";
-import { applyReviewEvent, deriveReviewState, type ReviewEvent, type ReviewState } from "../lib/review/state.ts";
+import { applyReviewEvent, deriveReviewState, renderRecipe, type ReviewEvent, type ReviewState } from "../lib/review/state.ts";
 
 type Db = Knex | Knex.Transaction;
 
@@ -115,16 +115,18 @@ export async function reviewEvents(t: Db, trackId: string): Promise<ReviewEvent[
       .join("mixes as m", "m.id", "rd.mix_id")
       .where({ "m.track_id": trackId, "rd.state": "done" })
       .whereNotNull("rd.finished_at")
-      .select<{ id: string; mix_id: string; finished_at: Date }[]>("rd.id", "rd.mix_id", "rd.finished_at");
+      .select<{ id: string; mix_id: string; chain_revision_id: string; target_lufs: number | null; finished_at: Date }[]>("rd.id", "rd.mix_id", "rd.chain_revision_id", "rd.target_lufs", "rd.finished_at");
   const requests = await t("review_requests").where({ track_id: trackId }).select<{ render_id: string; sent_by: string | null; message: string | null; created_at: Date }[]>("*");
   const verdicts = await t("review_events").where({ track_id: trackId }).select<{ render_id: string; kind: "approve" | "changes"; note: string | null; user_id: string | null; created_at: Date }[]>("*");
+  // A verdict is on a finished render of this track, so its recipe is among these.
+  const recipes = new Map(renders.map((r) => [r.id, renderRecipe({ mixId: r.mix_id, chainRevisionId: r.chain_revision_id, targetLufs: r.target_lufs })]));
   return [
     ...mixes.map((m): ReviewEvent => ({ kind: "mix_added", at: m.created_at, mixId: m.id })),
-    ...renders.map((r): ReviewEvent => ({ kind: "render_done", at: r.finished_at, renderId: r.id, mixId: r.mix_id })),
+    ...renders.map((r): ReviewEvent => ({ kind: "render_done", at: r.finished_at, renderId: r.id, mixId: r.mix_id, recipe: recipes.get(r.id) })),
     ...requests.map((q): ReviewEvent => ({ kind: "sent", at: q.created_at, renderId: q.render_id, userId: q.sent_by, message: q.message })),
     ...verdicts.map((v): ReviewEvent =>
       v.kind === "approve"
-        ? { kind: "approved", at: v.created_at, renderId: v.render_id, userId: v.user_id }
+        ? { kind: "approved", at: v.created_at, renderId: v.render_id, userId: v.user_id, recipe: recipes.get(v.render_id) }
         : { kind: "changes_asked", at: v.created_at, renderId: v.render_id, userId: v.user_id, note: v.note ?? "" },
     ),
   ];

@@ -32,11 +32,12 @@ async function newMix(): Promise<string> {
 }
 
 /** A finished render (its file is never read here). */
-async function doneRender(mixId: string, region?: [number, number]): Promise<string> {
+async function doneRender(mixId: string, region?: [number, number], targetLufs: number | null = null): Promise<string> {
   const [row] = await db("renders")
     .insert({
       mix_id: mixId,
       chain_revision_id: revisionId,
+      target_lufs: targetLufs,
       kind: region ? "preview" : "print",
       region_start_s: region?.[0] ?? null,
       region_end_s: region?.[1] ?? null,
@@ -70,7 +71,7 @@ afterAll(async () => {
 });
 
 describe("review", () => {
-  it("sends, asks for changes, sends again, approves — each with its e-mail — and a newer render clears the approval", async () => {
+  it("sends, asks for changes, sends again, approves — each with its e-mail — and a render of another master clears the approval", async () => {
     const mix1 = await newMix();
     const r1 = await doneRender(mix1, [60, 90]);
     expect((await getTrackReview(f.trackId)).state.status).toBe("in_progress");
@@ -114,8 +115,12 @@ describe("review", () => {
       ["approved", `client ${f.tag}`],
     ]);
 
-    // A newer render clears the approval; so does a new mix version.
-    await doneRender(mix1);
+    // A render of the approved master again (same mix, chain revision and
+    // target: say, the print of an approved preview) keeps the approval; a
+    // render of another master clears it; so does a new mix version.
+    await doneRender(mix1, [10, 40]);
+    expect((await getTrackReview(f.trackId)).state).toMatchObject({ status: "approved", approvedRenderId: r2 });
+    await doneRender(mix1, undefined, -14);
     expect((await getTrackReview(f.trackId)).state).toMatchObject({ status: "in_progress", approvedRenderId: null });
     const r4 = await doneRender(mix1);
     await sendForReview({ renderId: r4, senderId: f.users.engineer.id, link: LINK });

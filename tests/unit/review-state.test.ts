@@ -1,13 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { applyReviewEvent, deriveReviewState, INITIAL_REVIEW_STATE, type ReviewEvent } from "../../app/lib/review/state.ts";
+import { applyReviewEvent, deriveReviewState, INITIAL_REVIEW_STATE, renderRecipe, type ReviewEvent } from "../../app/lib/review/state.ts";
 
 let clock = Date.UTC(2026, 11, 1, 12);
 const at = () => new Date((clock += 60_000));
 const mix = (mixId: string): ReviewEvent => ({ kind: "mix_added", at: at(), mixId });
-const done = (renderId: string, mixId = "m1"): ReviewEvent => ({ kind: "render_done", at: at(), renderId, mixId });
+const done = (renderId: string, mixId = "m1", recipe?: string): ReviewEvent => ({ kind: "render_done", at: at(), renderId, mixId, recipe });
 const send = (renderId: string): ReviewEvent => ({ kind: "sent", at: at(), renderId, userId: "eng", message: null });
 const changes = (renderId: string, note = "More low end, please"): ReviewEvent => ({ kind: "changes_asked", at: at(), renderId, userId: "cli", note });
-const approve = (renderId: string): ReviewEvent => ({ kind: "approved", at: at(), renderId, userId: "cli" });
+const approve = (renderId: string, recipe?: string): ReviewEvent => ({ kind: "approved", at: at(), renderId, userId: "cli", recipe });
 
 const statusOf = (events: ReviewEvent[]) => deriveReviewState(events).state.status;
 
@@ -32,9 +32,22 @@ describe("review state", () => {
     expect(ignored).toEqual([]);
   });
 
-  it("clears the approval when a newer render finishes", () => {
+  it("clears the approval when a render of another master finishes", () => {
     const events = [mix("m1"), done("r1"), send("r1"), approve("r1"), done("r2")];
     expect(deriveReviewState(events).state).toMatchObject({ status: "in_progress", approvedRenderId: null, underReviewRenderId: null });
+    const a = renderRecipe({ mixId: "m1", chainRevisionId: "c1", targetLufs: null });
+    const b = renderRecipe({ mixId: "m1", chainRevisionId: "c2", targetLufs: null });
+    expect(statusOf([mix("m1"), done("r1", "m1", a), send("r1"), approve("r1", a), done("r2", "m1", b)])).toBe("in_progress");
+  });
+
+  it("keeps the approval when the approved master is rendered again (same mix, chain revision and target: the print of an approved preview)", () => {
+    const recipe = renderRecipe({ mixId: "m1", chainRevisionId: "c1", targetLufs: -14 });
+    expect(recipe).not.toBe(renderRecipe({ mixId: "m1", chainRevisionId: "c1", targetLufs: null }));
+    const events = [mix("m1"), done("r1", "m1", recipe), send("r1"), approve("r1", recipe), done("r2", "m1", recipe)];
+    expect(deriveReviewState(events).state).toMatchObject({ status: "approved", approvedRenderId: "r1", approvedRecipe: recipe });
+    // …until a render of something else, or a new mix.
+    expect(statusOf([...events, done("r3", "m1", "other")])).toBe("in_progress");
+    expect(statusOf([...events, mix("m2")])).toBe("in_progress");
   });
 
   it("clears the approval, and any review, when a new mix version arrives", () => {

@@ -2,7 +2,7 @@
 //
 //   in_progress ──send──► sent ──approve──► approved
 //        ▲                 │  ▲                │
-//        │              changes│send           │ new render or new mix
+//        │              changes│send           │ render of another master, or new mix
 //        │                 ▼  │                ▼
 //        │             changes_asked       in_progress
 //        └──── new mix version (from any state) ───┘
@@ -11,8 +11,10 @@
 // - Only the render under review can be approved or sent back with a note.
 // - A new mix version returns the track to in_progress from any state: what
 //   was heard was made from an older mix.
-// - A new render after approval clears the approval (in_progress); before
-//   approval it changes nothing until it is sent.
+// - A new render after approval clears the approval (in_progress), unless it
+//   renders the approved master again: the same mix version, chain revision
+//   and loudness target (its `recipe`; e.g. the print of an approved
+//   preview). Before approval a render changes nothing until it is sent.
 // The state is a pure function of the events, so nothing is stored twice and
 // history is never lost. Events arrive from several tables; one that is not
 // allowed where it lands (e.g. an approval that raced a new mix upload) is
@@ -22,23 +24,30 @@ export type ReviewStatus = "in_progress" | "sent" | "changes_asked" | "approved"
 
 export type ReviewEvent =
   | { kind: "mix_added"; at: Date; mixId: string }
-  | { kind: "render_done"; at: Date; renderId: string; mixId: string }
+  | { kind: "render_done"; at: Date; renderId: string; mixId: string; recipe?: string }
   | { kind: "sent"; at: Date; renderId: string; userId: string | null; message: string | null }
   | { kind: "changes_asked"; at: Date; renderId: string; userId: string | null; note: string }
-  | { kind: "approved"; at: Date; renderId: string; userId: string | null };
+  | { kind: "approved"; at: Date; renderId: string; userId: string | null; recipe?: string };
 
 export type ReviewState = {
   status: ReviewStatus;
   /** The render sent last and not superseded by a new mix (the one the client hears). */
   underReviewRenderId: string | null;
   approvedRenderId: string | null;
+  /** What the approved render was made from (see renderRecipe); a render of the same keeps the approval. */
+  approvedRecipe: string | null;
   /** The note of the last request for changes while it is the current state. */
   changesNote: string | null;
   /** When the current status began. */
   since: Date | null;
 };
 
-export const INITIAL_REVIEW_STATE: ReviewState = { status: "in_progress", underReviewRenderId: null, approvedRenderId: null, changesNote: null, since: null };
+export const INITIAL_REVIEW_STATE: ReviewState = { status: "in_progress", underReviewRenderId: null, approvedRenderId: null, approvedRecipe: null, changesNote: null, since: null };
+
+/** What makes two renders the same master: mix version, chain revision and loudness target (not the region). */
+export function renderRecipe(r: { mixId: string; chainRevisionId: string; targetLufs: number | null }): string {
+  return `${r.mixId}|${r.chainRevisionId}|${r.targetLufs ?? ""}`;
+}
 
 export type ApplyResult = { ok: true; state: ReviewState } | { ok: false; reason: string };
 
@@ -49,10 +58,12 @@ export function applyReviewEvent(state: ReviewState, event: ReviewEvent): ApplyR
   switch (event.kind) {
     case "mix_added":
       return { ok: true, state: state.status === "in_progress" && !state.underReviewRenderId ? state : back(event.at) };
-    case "render_done":
-      return { ok: true, state: state.status === "approved" ? back(event.at) : state };
+    case "render_done": {
+      const sameMaster = event.recipe !== undefined && event.recipe === state.approvedRecipe;
+      return { ok: true, state: state.status === "approved" && !sameMaster ? back(event.at) : state };
+    }
     case "sent":
-      return { ok: true, state: { status: "sent", underReviewRenderId: event.renderId, approvedRenderId: null, changesNote: null, since: event.at } };
+      return { ok: true, state: { status: "sent", underReviewRenderId: event.renderId, approvedRenderId: null, approvedRecipe: null, changesNote: null, since: event.at } };
     case "changes_asked":
     case "approved": {
       if (state.status !== "sent") {
@@ -61,10 +72,10 @@ export function applyReviewEvent(state: ReviewState, event: ReviewEvent): ApplyR
       }
       if (state.underReviewRenderId !== event.renderId) return { ok: false, reason: "A newer master was sent for review; listen to that one." };
       if (event.kind === "approved") {
-        return { ok: true, state: { status: "approved", underReviewRenderId: event.renderId, approvedRenderId: event.renderId, changesNote: null, since: event.at } };
+        return { ok: true, state: { status: "approved", underReviewRenderId: event.renderId, approvedRenderId: event.renderId, approvedRecipe: event.recipe ?? null, changesNote: null, since: event.at } };
       }
       if (!event.note.trim()) return { ok: false, reason: "Say what should change." };
-      return { ok: true, state: { status: "changes_asked", underReviewRenderId: event.renderId, approvedRenderId: null, changesNote: event.note, since: event.at } };
+      return { ok: true, state: { status: "changes_asked", underReviewRenderId: event.renderId, approvedRenderId: null, approvedRecipe: null, changesNote: event.note, since: event.at } };
     }
   }
 }
