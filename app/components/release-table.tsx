@@ -2,6 +2,7 @@
 import { Link } from "react-router";
 import { RELEASE_KIND_LABELS, type ReleaseKind, type ReleaseStatus } from "../schemas/release.ts";
 import { StatusBadge } from "./status-badge.tsx";
+import { DataTable } from "./data-table.tsx";
 
 export type ReleaseListItem = {
   id: string;
@@ -23,40 +24,28 @@ export function ReleaseTable({ releases, showClient }: { releases: ReleaseListIt
   }
   return (
     <>
-      <div className="card hidden overflow-x-auto md:block">
-        <table className="data-table" aria-label="Releases">
-          <thead>
-            <tr>
-              <th scope="col">Release</th>
-              {showClient && <th scope="col">Client</th>}
-              <th scope="col">Kind</th>
-              <th scope="col" className="text-right">
-                Tracks
-              </th>
-              <th scope="col">Due</th>
-              <th scope="col">Status</th>
-            </tr>
-          </thead>
-          <tbody>
-            {releases.map((release) => (
-              <tr key={release.id} className="hover:bg-paper/60">
-                <td>
-                  <Link to={`/releases/${release.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
-                    {release.title}
-                  </Link>
-                </td>
-                {showClient && <td>{release.clientName}</td>}
-                <td>{RELEASE_KIND_LABELS[release.kind]}</td>
-                <td className="num text-right">{tracksLabel(release.trackCount)}</td>
-                <td className="num">{release.dueOn ?? "—"}</td>
-                <td>
-                  <StatusBadge status={release.status} />
-                </td>
-              </tr>
-            ))}
-          </tbody>
-        </table>
-      </div>
+      <DataTable
+        label="Releases"
+        frameClassName="hidden md:block"
+        columns={[{ label: "Release" }, showClient && { label: "Client" }, { label: "Kind" }, { label: "Tracks", align: "right" }, { label: "Due" }, { label: "Status" }]}
+      >
+        {releases.map((release) => (
+          <tr key={release.id} className="hover:bg-paper/60">
+            <td>
+              <Link to={`/releases/${release.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                {release.title}
+              </Link>
+            </td>
+            {showClient && <td>{release.clientName}</td>}
+            <td>{RELEASE_KIND_LABELS[release.kind]}</td>
+            <td className="num text-right">{tracksLabel(release.trackCount)}</td>
+            <td className="num">{release.dueOn ?? "—"}</td>
+            <td>
+              <StatusBadge status={release.status} />
+            </td>
+          </tr>
+        ))}
+      </DataTable>
       <ul className="space-y-3 md:hidden" aria-label="Releases">
         {releases.map((release) => (
           <li key={release.id} className="card px-4 py-3">

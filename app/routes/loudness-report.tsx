@@ -7,6 +7,7 @@ import type { Route } from "./+types/loudness-report";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { loudnessReport } from "../models/delivery.server.ts";
 import { PageHeader } from "../components/page-header.tsx";
+import { DataTable } from "../components/data-table.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { release } = await requireReleaseAccess(request, params.releaseId);
@@ -55,54 +56,46 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
       {report.rows.length === 0 ? (
         <p className="card px-5 py-8 text-center text-ink-soft">No tracks yet.</p>
       ) : (
-        <div className="card overflow-x-auto">
-          <table className="data-table report-table" aria-label="Loudness report">
-            <thead>
-              <tr>
-                <th scope="col">Track</th>
-                <th scope="col">Format</th>
-                <th scope="col" className="text-right">
-                  Integrated (LUFS)
-                </th>
-                <th scope="col" className="text-right">
-                  LRA (LU)
-                </th>
-                <th scope="col" className="text-right">
-                  True peak (dBTP)
-                </th>
-                <th scope="col" className="text-right">
-                  PLR (dB)
-                </th>
-                {report.references.map((r) => (
-                  <th scope="col" key={r.name} className="text-right">
-                    Turn-down at {r.name} <span className="num">{fixed(r.lufs, 0)}</span> LUFS (dB)
-                  </th>
-                ))}
-                <th scope="col">Warnings</th>
-              </tr>
-            </thead>
-            <tbody>
-              {report.rows.map((row) => (
-                <tr key={`${row.position} ${row.format}`}>
-                  <td>
-                    <span className="num text-ink-soft">{row.position}.</span> {row.title}
-                  </td>
-                  <td>{row.format}</td>
-                  <td className="num text-right">{fixed(row.integratedLufs, 1)}</td>
-                  <td className="num text-right">{fixed(row.loudnessRangeLu, 1)}</td>
-                  <td className="num text-right">{fixed(row.truePeakDbtp, 2)}</td>
-                  <td className="num text-right">{fixed(row.plrDb, 1)}</td>
-                  {row.turnDownDb.map((v, i) => (
-                    <td key={report.references[i]!.name} className="num text-right">
-                      {fixed(v, 1)}
-                    </td>
-                  ))}
-                  <td className="text-sm">{row.warnings.length > 0 ? row.warnings.join("; ") : "none"}</td>
-                </tr>
+        <DataTable
+          label="Loudness report"
+          className="report-table"
+          columns={[
+            { label: "Track" },
+            { label: "Format" },
+            { label: "Integrated (LUFS)", align: "right" },
+            { label: "LRA (LU)", align: "right" },
+            { label: "True peak (dBTP)", align: "right" },
+            { label: "PLR (dB)", align: "right" },
+            ...report.references.map((r) => ({
+              label: (
+                <>
+                  Turn-down at {r.name} <span className="num">{fixed(r.lufs, 0)}</span> LUFS (dB)
+                </>
+              ),
+              align: "right" as const,
+            })),
+            { label: "Warnings" },
+          ]}
+        >
+          {report.rows.map((row) => (
+            <tr key={`${row.position} ${row.format}`}>
+              <td>
+                <span className="num text-ink-soft">{row.position}.</span> {row.title}
+              </td>
+              <td>{row.format}</td>
+              <td className="num text-right">{fixed(row.integratedLufs, 1)}</td>
+              <td className="num text-right">{fixed(row.loudnessRangeLu, 1)}</td>
+              <td className="num text-right">{fixed(row.truePeakDbtp, 2)}</td>
+              <td className="num text-right">{fixed(row.plrDb, 1)}</td>
+              {row.turnDownDb.map((v, i) => (
+                <td key={report.references[i]!.name} className="num text-right">
+                  {fixed(v, 1)}
+                </td>
               ))}
-            </tbody>
-          </table>
-        </div>
+              <td className="text-sm">{row.warnings.length > 0 ? row.warnings.join("; ") : "none"}</td>
+            </tr>
+          ))}
+        </DataTable>
       )}
     </>
   );

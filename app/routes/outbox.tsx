@@ -4,6 +4,7 @@ import type { Route } from "./+types/outbox";
 import { requireRole } from "../lib/auth.server.ts";
 import { fakeInbox, listOutbox } from "../models/outbox.server.ts";
 import { PageHeader } from "../components/page-header.tsx";
+import { DataTable } from "../components/data-table.tsx";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, ["owner"]);
@@ -23,37 +24,25 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
       {rows.length === 0 ? (
         <p className="card px-5 py-8 text-center text-ink-soft">Nothing sent yet.</p>
       ) : (
-        <div className="card overflow-x-auto">
-          <table className="data-table min-w-[44rem]" aria-label="Outbox">
-            <thead>
-              <tr>
-                <th scope="col">To</th>
-                <th scope="col">Subject</th>
-                <th scope="col">Kind</th>
-                <th scope="col">State</th>
-                <th scope="col" className="text-right">
-                  Attempts
-                </th>
-                <th scope="col">Queued</th>
-              </tr>
-            </thead>
-            <tbody>
-              {rows.map((r) => (
-                <tr key={r.id} data-outbox-state={r.state}>
-                  <td className="whitespace-nowrap">{r.to}</td>
-                  <td>{r.subject}</td>
-                  <td className="text-ink-soft">{r.kind}</td>
-                  <td title={r.lastError ?? undefined}>
-                    {r.state}
-                    {r.lastError && <span className="block text-xs text-danger">{r.lastError}</span>}
-                  </td>
-                  <td className="num text-right">{r.attempts}</td>
-                  <td className="num whitespace-nowrap">{when(r.createdAt)}</td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <DataTable
+          label="Outbox"
+          className="min-w-[44rem]"
+          columns={[{ label: "To" }, { label: "Subject" }, { label: "Kind" }, { label: "State" }, { label: "Attempts", align: "right" }, { label: "Queued" }]}
+        >
+          {rows.map((r) => (
+            <tr key={r.id} data-outbox-state={r.state}>
+              <td className="whitespace-nowrap">{r.to}</td>
+              <td>{r.subject}</td>
+              <td className="text-ink-soft">{r.kind}</td>
+              <td title={r.lastError ?? undefined}>
+                {r.state}
+                {r.lastError && <span className="block text-xs text-danger">{r.lastError}</span>}
+              </td>
+              <td className="num text-right">{r.attempts}</td>
+              <td className="num whitespace-nowrap">{when(r.createdAt)}</td>
+            </tr>
+          ))}
+        </DataTable>
       )}
       {fake && (
         <section aria-labelledby="fake-inbox" className="mt-8">

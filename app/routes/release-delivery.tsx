@@ -19,6 +19,7 @@ import { releaseDeliveryPlan } from "../models/delivery-plan.server.ts";
 import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
 import { PageHeader } from "../components/page-header.tsx";
+import { DataTable } from "../components/data-table.tsx";
 
 const dbNumber = (label: string, min: number, max: number, unit: string) =>
   z
@@ -143,45 +144,32 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           Formats
         </h2>
         <p className="mb-3 text-sm text-ink-soft">{ownFormats ? "This release's own formats." : "The studio's default formats. Adding, editing or deleting one gives this release its own list, starting from these."}</p>
-        <div className="card mb-4 overflow-x-auto">
-          <table className="data-table" aria-label="Delivery formats">
-            <thead>
-              <tr>
-                <th scope="col">Name</th>
-                <th scope="col">Sample rate</th>
-                <th scope="col">Bit depth</th>
-                <th scope="col">Dither</th>
-                <th scope="col">Ceiling</th>
-                <th scope="col">Target</th>
-                <th scope="col">
-                  <span className="sr-only">Edit or delete</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody>
-              {formats.map((f) => (
-                <tr key={f.id}>
-                  <td>{f.name}</td>
-                  <td className="num">{f.sampleRate} Hz</td>
-                  <td className="num">{f.bitDepth === "32f" ? "32-bit float" : `${f.bitDepth}-bit`}</td>
-                  <td>{f.dither === "tpdf" ? "TPDF" : "none"}</td>
-                  <td className="num">{f.ceilingDbtp} dBTP</td>
-                  <td className="num">{f.targetLufs !== undefined ? `${f.targetLufs} LUFS` : "keep level"}</td>
-                  <td className="whitespace-nowrap">
-                    <Link to={`?edit=${f.id}#format-form`} className="text-accent-deep underline-offset-4 hover:underline" aria-label={`Edit ${f.name}`}>
-                      Edit
-                    </Link>
-                    {formats.length > 1 && (
-                      <Link to={`?delete=${f.id}#format-delete`} className="ml-3 text-danger underline-offset-4 hover:underline" aria-label={`Delete ${f.name}`}>
-                        Delete
-                      </Link>
-                    )}
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <DataTable
+          label="Delivery formats"
+          frameClassName="mb-4"
+          columns={[{ label: "Name" }, { label: "Sample rate" }, { label: "Bit depth" }, { label: "Dither" }, { label: "Ceiling" }, { label: "Target" }, { label: "Edit or delete", hiddenLabel: true }]}
+        >
+          {formats.map((f) => (
+            <tr key={f.id}>
+              <td>{f.name}</td>
+              <td className="num">{f.sampleRate} Hz</td>
+              <td className="num">{f.bitDepth === "32f" ? "32-bit float" : `${f.bitDepth}-bit`}</td>
+              <td>{f.dither === "tpdf" ? "TPDF" : "none"}</td>
+              <td className="num">{f.ceilingDbtp} dBTP</td>
+              <td className="num">{f.targetLufs !== undefined ? `${f.targetLufs} LUFS` : "keep level"}</td>
+              <td className="whitespace-nowrap">
+                <Link to={`?edit=${f.id}#format-form`} className="text-accent-deep underline-offset-4 hover:underline" aria-label={`Edit ${f.name}`}>
+                  Edit
+                </Link>
+                {formats.length > 1 && (
+                  <Link to={`?delete=${f.id}#format-delete`} className="ml-3 text-danger underline-offset-4 hover:underline" aria-label={`Delete ${f.name}`}>
+                    Delete
+                  </Link>
+                )}
+              </td>
+            </tr>
+          ))}
+        </DataTable>
         <FormNotice message={removal?.errors.form} />
         {deleting && (
           <Form id="format-delete" method="post" className="card mb-4 space-y-3 border-danger/40 p-5" role="group" aria-labelledby="format-delete-heading">
@@ -270,33 +258,21 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
         {deliveries.length === 0 ? (
           <p className="card px-5 py-8 text-center text-ink-soft">No deliveries yet.</p>
         ) : (
-          <div className="card overflow-x-auto">
-            <table className="data-table" aria-label="Deliveries">
-              <thead>
-                <tr>
-                  <th scope="col">Track</th>
-                  <th scope="col">Format</th>
-                  <th scope="col">State</th>
-                  <th scope="col">Warnings</th>
-                </tr>
-              </thead>
-              <tbody>
-                {deliveries.map((d) => (
-                  <tr key={d.id}>
-                    <td>
-                      <span className="num text-ink-soft">{d.position}.</span> {d.title}
-                    </td>
-                    <td>
-                      {d.formatName}
-                      {!d.formatKept && <span className="block text-xs text-ink-soft">format deleted or changed · not in the package</span>}
-                    </td>
-                    <td>{d.state}</td>
-                    <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <DataTable label="Deliveries" columns={[{ label: "Track" }, { label: "Format" }, { label: "State" }, { label: "Warnings" }]}>
+            {deliveries.map((d) => (
+              <tr key={d.id}>
+                <td>
+                  <span className="num text-ink-soft">{d.position}.</span> {d.title}
+                </td>
+                <td>
+                  {d.formatName}
+                  {!d.formatKept && <span className="block text-xs text-ink-soft">format deleted or changed · not in the package</span>}
+                </td>
+                <td>{d.state}</td>
+                <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
+              </tr>
+            ))}
+          </DataTable>
         )}
       </section>
     </>

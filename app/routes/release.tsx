@@ -11,6 +11,7 @@ import { PageHeader } from "../components/page-header.tsx";
 import { StatusBadge } from "../components/status-badge.tsx";
 import { releaseBillingData } from "./release-billing.server.ts";
 import { ReleaseBillingSection } from "./release-billing-section.tsx";
+import { DataTable } from "../components/data-table.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
@@ -87,47 +88,31 @@ export default function Release({ loaderData }: Route.ComponentProps) {
       {tracks.length === 0 ? (
         <p className="card px-5 py-8 text-center text-ink-soft">No tracks yet.</p>
       ) : (
-        <div className="card overflow-x-auto">
-          <table className="data-table" aria-label="Tracks">
-            <thead>
-              <tr>
-                <th scope="col" className="w-14 text-right">
-                  No.
-                </th>
-                <th scope="col">Title</th>
-                <th scope="col">ISRC</th>
-                <th scope="col">Review</th>
-                {staff && (
-                  <th scope="col" className="w-24">
-                    <span className="sr-only">Running order</span>
-                  </th>
-                )}
-              </tr>
-            </thead>
-            <tbody>
-              {tracks.map((track, index) => (
-                <tr key={track.id}>
-                  <td className="num text-right text-ink-soft">{track.position}</td>
-                  <td>
-                    <Link to={`/releases/${release.id}/tracks/${track.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
-                      {track.title}
-                    </Link>
-                  </td>
-                  <td className="num whitespace-nowrap">{track.isrc ? formatIsrc(track.isrc) : <span className="text-ink-faint">—</span>}</td>
-                  <td className="whitespace-nowrap" data-review-status={reviews[track.id]}>
-                    {reviews[track.id] ? REVIEW_STATUS_LABEL[reviews[track.id]!] : "—"}
-                  </td>
-                  {staff && (
-                    <td className="whitespace-nowrap text-right">
-                      <MoveButton trackId={track.id} title={track.title} direction="up" disabled={busy || index === 0} />
-                      <MoveButton trackId={track.id} title={track.title} direction="down" disabled={busy || index === tracks.length - 1} />
-                    </td>
-                  )}
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <DataTable
+          label="Tracks"
+          columns={[{ label: "No.", align: "right", className: "w-14" }, { label: "Title" }, { label: "ISRC" }, { label: "Review" }, staff && { label: "Running order", hiddenLabel: true, className: "w-24" }]}
+        >
+          {tracks.map((track, index) => (
+            <tr key={track.id}>
+              <td className="num text-right text-ink-soft">{track.position}</td>
+              <td>
+                <Link to={`/releases/${release.id}/tracks/${track.id}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                  {track.title}
+                </Link>
+              </td>
+              <td className="num whitespace-nowrap">{track.isrc ? formatIsrc(track.isrc) : <span className="text-ink-faint">—</span>}</td>
+              <td className="whitespace-nowrap" data-review-status={reviews[track.id]}>
+                {reviews[track.id] ? REVIEW_STATUS_LABEL[reviews[track.id]!] : "—"}
+              </td>
+              {staff && (
+                <td className="whitespace-nowrap text-right">
+                  <MoveButton trackId={track.id} title={track.title} direction="up" disabled={busy || index === 0} />
+                  <MoveButton trackId={track.id} title={track.title} direction="down" disabled={busy || index === tracks.length - 1} />
+                </td>
+              )}
+            </tr>
+          ))}
+        </DataTable>
       )}
       <section aria-labelledby="sent-for-review" className="mt-8">
         <h2 id="sent-for-review" className="mb-2 text-lg font-semibold">

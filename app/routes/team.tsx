@@ -9,6 +9,7 @@ import { changeStaffRole, listMembers } from "../models/team.server.ts";
 import { clientSchema, INVITATION_DAYS, invitationSchema, roleChangeSchema } from "../schemas/team.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
 import { PageHeader } from "../components/page-header.tsx";
+import { DataTable } from "../components/data-table.tsx";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, ["owner"]);
@@ -80,48 +81,35 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
             <FormNotice message={role.message} tone={Object.keys(role.errors).length === 0 && role.message === "Role changed." ? "info" : "danger"} />
           </div>
         )}
-        <div className="card overflow-x-auto">
-          <table className="data-table" aria-label="Members">
-            <thead>
-              <tr>
-                <th scope="col">Name</th>
-                <th scope="col" className="hidden sm:table-cell">
-                  E-mail
-                </th>
-                <th scope="col">Role</th>
-              </tr>
-            </thead>
-            <tbody>
-              {members.map((member) => (
-                <tr key={member.membershipId}>
-                  <td>
-                    <span className="font-medium">{member.name}</span>
-                    <span className="block text-sm break-all text-ink-soft sm:hidden">{member.email}</span>
-                  </td>
-                  <td className="hidden break-all sm:table-cell">{member.email}</td>
-                  <td>
-                    {member.role === "client" ? (
-                      <span>Client · {member.clientName}</span>
-                    ) : (
-                      <Form method="post" className="flex flex-wrap items-center gap-2">
-                        <input type="hidden" name="intent" value="role" />
-                        <input type="hidden" name="membershipId" value={member.membershipId} />
-                        <select name="role" defaultValue={member.role} aria-label={`Role of ${member.name}`} className="field-input w-36 py-1">
-                          <option value="owner">Owner</option>
-                          <option value="engineer">Engineer</option>
-                        </select>
-                        <button type="submit" className="btn-quiet px-3">
-                          Change
-                        </button>
-                        {member.userId === me && <span className="text-xs text-ink-faint">(you)</span>}
-                      </Form>
-                    )}
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <DataTable label="Members" columns={[{ label: "Name" }, { label: "E-mail", className: "hidden sm:table-cell" }, { label: "Role" }]}>
+          {members.map((member) => (
+            <tr key={member.membershipId}>
+              <td>
+                <span className="font-medium">{member.name}</span>
+                <span className="block text-sm break-all text-ink-soft sm:hidden">{member.email}</span>
+              </td>
+              <td className="hidden break-all sm:table-cell">{member.email}</td>
+              <td>
+                {member.role === "client" ? (
+                  <span>Client · {member.clientName}</span>
+                ) : (
+                  <Form method="post" className="flex flex-wrap items-center gap-2">
+                    <input type="hidden" name="intent" value="role" />
+                    <input type="hidden" name="membershipId" value={member.membershipId} />
+                    <select name="role" defaultValue={member.role} aria-label={`Role of ${member.name}`} className="field-input w-36 py-1">
+                      <option value="owner">Owner</option>
+                      <option value="engineer">Engineer</option>
+                    </select>
+                    <button type="submit" className="btn-quiet px-3">
+                      Change
+                    </button>
+                    {member.userId === me && <span className="text-xs text-ink-faint">(you)</span>}
+                  </Form>
+                )}
+              </td>
+            </tr>
+          ))}
+        </DataTable>
       </section>
 
       <div className="grid gap-8 lg:grid-cols-2">

@@ -4,6 +4,7 @@
 // here from the two stored figures.
 import type { SourceAnalysis } from "../../models/compare-source.server.ts";
 import { fmt } from "../render/format.ts";
+import { DataTable } from "../data-table.tsx";
 
 type Measure = { key: string; label: string; unit: string; digits: number; value: (a: SourceAnalysis) => number | null | undefined };
 
@@ -36,41 +37,28 @@ const num = (v: number | null | undefined) => (typeof v === "number" && Number.i
 export function AnalysesCompare({ a, b, labels }: { a: SourceAnalysis | null; b: SourceAnalysis | null; labels: { a: string; b: string } }) {
   if (!a && !b) return <p className="text-sm text-ink-soft">Neither source has an analysis yet.</p>;
   return (
-    <div className="relative max-w-full overflow-x-auto">
-      <table className="data-table w-full text-sm" aria-label="Analyses of A and B">
-        <thead>
-          <tr>
-            <th scope="col">Measure</th>
-            <th scope="col" className="text-right" title={labels.a}>
-              A
+    <DataTable
+      label="Analyses of A and B"
+      frame="bare"
+      className="w-full text-sm"
+      columns={[{ label: "Measure" }, { label: "A", align: "right", title: labels.a }, { label: "B", align: "right", title: labels.b }, { label: "A − B", align: "right" }]}
+    >
+      {MEASURES.map((m) => {
+        const va = a ? num(m.value(a)) : null;
+        const vb = b ? num(m.value(b)) : null;
+        return (
+          <tr key={m.key} data-measure={m.key}>
+            <th scope="row" className="font-normal">
+              {m.label}
             </th>
-            <th scope="col" className="text-right" title={labels.b}>
-              B
-            </th>
-            <th scope="col" className="text-right">
-              A − B
-            </th>
+            <td className="num text-right whitespace-nowrap">{m.unit ? fmt(va, m.unit, m.digits) : plain(va, m.digits)}</td>
+            <td className="num text-right whitespace-nowrap">{m.unit ? fmt(vb, m.unit, m.digits) : plain(vb, m.digits)}</td>
+            <td className="num text-right whitespace-nowrap" data-difference>
+              {signed(va !== null && vb !== null ? va - vb : null, DIFFERENCE_UNIT[m.unit] ?? m.unit, m.digits)}
+            </td>
           </tr>
-        </thead>
-        <tbody>
-          {MEASURES.map((m) => {
-            const va = a ? num(m.value(a)) : null;
-            const vb = b ? num(m.value(b)) : null;
-            return (
-              <tr key={m.key} data-measure={m.key}>
-                <th scope="row" className="font-normal">
-                  {m.label}
-                </th>
-                <td className="num text-right whitespace-nowrap">{m.unit ? fmt(va, m.unit, m.digits) : plain(va, m.digits)}</td>
-                <td className="num text-right whitespace-nowrap">{m.unit ? fmt(vb, m.unit, m.digits) : plain(vb, m.digits)}</td>
-                <td className="num text-right whitespace-nowrap" data-difference>
-                  {signed(va !== null && vb !== null ? va - vb : null, DIFFERENCE_UNIT[m.unit] ?? m.unit, m.digits)}
-                </td>
-              </tr>
-            );
-          })}
-        </tbody>
-      </table>
-    </div>
+        );
+      })}
+    </DataTable>
   );
 }

@@ -1,5 +1,6 @@
 // Input beside output: the figures of a render's two analyses, with units.
 import { fmt } from "./format.ts";
+import { DataTable } from "../data-table.tsx";
 
 type Analysis = Partial<Record<"integratedLufs" | "loudnessRangeLu" | "truePeakDbtp" | "samplePeakDbfs" | "maxShortTermLufs" | "maxMomentaryLufs", number | null>>;
 
@@ -16,25 +17,14 @@ export function AnalysesTable({ input, output }: { input: unknown; output: unkno
   const a = (input ?? {}) as Analysis;
   const b = (output ?? {}) as Analysis;
   return (
-    <div className="relative max-w-full overflow-x-auto">
-      <table className="data-table w-full max-w-xl text-sm" aria-label="Analyses">
-        <thead>
-          <tr>
-            <th scope="col">Measure</th>
-            <th scope="col" className="text-right">Input</th>
-            <th scope="col" className="text-right">Output</th>
-          </tr>
-        </thead>
-        <tbody>
-          {ROWS.map((row) => (
-            <tr key={row.key} data-measure={row.key}>
-              <th scope="row" className="font-normal">{row.label}</th>
-              <td className="num text-right whitespace-nowrap">{fmt(a[row.key], row.unit)}</td>
-              <td className="num text-right whitespace-nowrap">{fmt(b[row.key], row.unit)}</td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+    <DataTable label="Analyses" frame="bare" className="w-full max-w-xl text-sm" columns={[{ label: "Measure" }, { label: "Input", align: "right" }, { label: "Output", align: "right" }]}>
+      {ROWS.map((row) => (
+        <tr key={row.key} data-measure={row.key}>
+          <th scope="row" className="font-normal">{row.label}</th>
+          <td className="num text-right whitespace-nowrap">{fmt(a[row.key], row.unit)}</td>
+          <td className="num text-right whitespace-nowrap">{fmt(b[row.key], row.unit)}</td>
+        </tr>
+      ))}
+    </DataTable>
   );
 }

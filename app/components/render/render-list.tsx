@@ -2,6 +2,7 @@
 import { Link } from "react-router";
 import { RenderProgress } from "./progress-bar.tsx";
 import { fmt } from "./format.ts";
+import { DataTable } from "../data-table.tsx";
 
 export type RenderListRow = {
   id: string;
@@ -17,40 +18,27 @@ export type RenderListRow = {
 
 export function RenderList({ renders, base }: { renders: RenderListRow[]; base: string }) {
   return (
-    <div className="relative mt-3 max-w-full overflow-x-auto">
-      <table className="data-table w-full text-sm" aria-label="Renders">
-        <thead>
-          <tr>
-            <th scope="col">Kind</th>
-            <th scope="col">Mix</th>
-            <th scope="col">Chain</th>
-            <th scope="col">Target</th>
-            <th scope="col">State</th>
-          </tr>
-        </thead>
-        <tbody>
-          {renders.map((r) => (
-            <tr key={r.id}>
-              <td>
-                <Link to={`${base}/renders/${r.id}`} className="text-accent-deep underline-offset-4 hover:underline">
-                  {r.kind === "print" ? "Print" : "Preview"}
-                </Link>
-                <span className="num block text-xs text-ink-faint">
-                  {r.kind === "preview" ? (r.region ? `${r.region.startS.toFixed(1)}–${r.region.endS.toFixed(1)} s` : "loudest 30 s") : "whole mix"}
-                </span>
-              </td>
-              <td className="num">v{r.mixVersion}</td>
-              <td className="whitespace-nowrap">
-                {r.chainName} <span className="num text-ink-faint">rev {r.chainRevision}</span>
-              </td>
-              <td className="num whitespace-nowrap">{r.targetLufs == null ? "—" : fmt(r.targetLufs, "LUFS")}</td>
-              <td>
-                <RenderProgress state={r.state} progress={r.progress} />
-              </td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+    <DataTable label="Renders" frame="bare" frameClassName="mt-3" className="w-full text-sm" columns={[{ label: "Kind" }, { label: "Mix" }, { label: "Chain" }, { label: "Target" }, { label: "State" }]}>
+      {renders.map((r) => (
+        <tr key={r.id}>
+          <td>
+            <Link to={`${base}/renders/${r.id}`} className="text-accent-deep underline-offset-4 hover:underline">
+              {r.kind === "print" ? "Print" : "Preview"}
+            </Link>
+            <span className="num block text-xs text-ink-faint">
+              {r.kind === "preview" ? (r.region ? `${r.region.startS.toFixed(1)}–${r.region.endS.toFixed(1)} s` : "loudest 30 s") : "whole mix"}
+            </span>
+          </td>
+          <td className="num">v{r.mixVersion}</td>
+          <td className="whitespace-nowrap">
+            {r.chainName} <span className="num text-ink-faint">rev {r.chainRevision}</span>
+          </td>
+          <td className="num whitespace-nowrap">{r.targetLufs == null ? "—" : fmt(r.targetLufs, "LUFS")}</td>
+          <td>
+            <RenderProgress state={r.state} progress={r.progress} />
+          </td>
+        </tr>
+      ))}
+    </DataTable>
   );
 }
