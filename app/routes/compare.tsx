@@ -16,7 +16,6 @@ import { alignTraces, formatZoom, parseZoom, type AlignedTraces } from "../lib/c
 import { labelChanges, type LabelledChange } from "../lib/compare/chain-changes.ts";
 import { choosePair } from "../lib/compare/sources.ts";
 import { reviewPageAction, type ReviewActionData } from "../lib/review/page-action.server.ts";
-import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { diffParams } from "../models/chain.server.ts";
 import { listComments } from "../models/comment.server.ts";
 import { listCompareSources, sourceAnalysis, sourceTraces, type CompareSource } from "../models/compare-source.server.ts";
@@ -26,8 +25,8 @@ import { AbPlayer } from "../components/player/ab-player.tsx";
 import { AnalysesCompare } from "../components/player/analyses-compare.tsx";
 import { formatClock } from "../components/player/format.ts";
 import { TraceCharts } from "../components/player/trace-charts.tsx";
-import { BackLink, PageHeader } from "../components/page-header.tsx";
-import { FormNotice } from "../components/field.tsx";
+import { BackLink } from "../components/page-header.tsx";
+import { ReviewHeader } from "../components/review/review-header.tsx";
 import { CommentThreads, TargetInputs } from "../components/review/comment-threads.tsx";
 import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
@@ -119,19 +118,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
   return (
     <>
       <BackLink to={`/releases/${release.id}/tracks/${track.id}`}>{track.title}</BackLink>
-      <PageHeader
-        eyebrow={
-          <>
-            {release.title} · review: <span data-testid="review-status">{REVIEW_STATUS_LABEL[review.status]}</span>
-          </>
-        }
-        title={`Compare ${track.title}`}
-      />
-      {error && (
-        <div className="mb-4">
-          <FormNotice message={error} />
-        </div>
-      )}
+      <ReviewHeader releaseTitle={release.title} status={review.status} title={`Compare ${track.title}`} error={error} />
 
       {choices.length > 0 && (
         <Form method="get" className="mb-4 flex flex-wrap items-end gap-3" aria-label="Sources">

@@ -9,15 +9,14 @@ import type { Route } from "./+types/review";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff } from "../lib/roles.ts";
-import { REVIEW_STATUS_LABEL } from "../lib/review/state.ts";
 import { listComments } from "../models/comment.server.ts";
 import { getTrackReview, listReviewableRenders } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
 import { reviewPageAction } from "../lib/review/page-action.server.ts";
 import { formatClock } from "../components/player/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
-import { BackLink, PageHeader } from "../components/page-header.tsx";
-import { FormNotice } from "../components/field.tsx";
+import { BackLink } from "../components/page-header.tsx";
+import { ReviewHeader } from "../components/review/review-header.tsx";
 import { CommentThreads } from "../components/review/comment-threads.tsx";
 import { VerdictForms } from "../components/review/verdict-forms.tsx";
 
@@ -82,19 +81,7 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
   return (
     <>
       <BackLink to={`/releases/${release.id}`}>{release.title}</BackLink>
-      <PageHeader
-        eyebrow={
-          <>
-            {release.title} · review: <span data-testid="review-status">{REVIEW_STATUS_LABEL[review.status]}</span>
-          </>
-        }
-        title={`Review ${track.title}`}
-      />
-      {error && (
-        <div className="mb-4">
-          <FormNotice message={error} />
-        </div>
-      )}
+      <ReviewHeader releaseTitle={release.title} status={review.status} title={`Review ${track.title}`} error={error} />
       {!render ? (
         <p className="card p-4 text-sm text-ink-soft">Nothing has been sent for review on this track yet.</p>
       ) : (
