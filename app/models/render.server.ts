@@ -68,14 +68,12 @@ export type RenderRow = {
   created_by: string | null;
 };
 
-export function renderFromRow(row: RenderRow): Render {
+const STATUS_COLUMNS = ["id", "state", "progress", "error", "attempts", "queued_at", "started_at", "finished_at"] as const;
+type StatusRow = Pick<RenderRow, (typeof STATUS_COLUMNS)[number]>;
+
+function statusFromRow(row: StatusRow): RenderStatus {
   return {
     id: row.id,
-    mixId: row.mix_id,
-    chainRevisionId: row.chain_revision_id,
-    kind: row.kind,
-    region: row.region_start_s === null || row.region_end_s === null ? null : { startS: row.region_start_s, endS: row.region_end_s },
-    targetLufs: row.target_lufs,
     state: row.state,
     progress: row.progress,
     error: row.error,
@@ -83,6 +81,17 @@ export function renderFromRow(row: RenderRow): Render {
     queuedAt: row.queued_at,
     startedAt: row.started_at,
     finishedAt: row.finished_at,
+  };
+}
+
+export function renderFromRow(row: RenderRow): Render {
+  return {
+    ...statusFromRow(row),
+    mixId: row.mix_id,
+    chainRevisionId: row.chain_revision_id,
+    kind: row.kind,
+    region: row.region_start_s === null || row.region_end_s === null ? null : { startS: row.region_start_s, endS: row.region_end_s },
+    targetLufs: row.target_lufs,
     inputAnalysis: row.input_analysis,
     outputAnalysis: row.output_analysis,
     tracesKey: row.traces_key,
@@ -153,23 +162,8 @@ export type RenderStatus = Pick<Render, "id" | "state" | "progress" | "error" | 
 
 /** Only what a progress bar needs: cheap to poll, without the analyses. */
 export async function getRenderStatus(id: string): Promise<RenderStatus | undefined> {
-  const row = await db("renders")
-    .where({ id })
-    .first<Pick<RenderRow, "id" | "state" | "progress" | "error" | "attempts" | "queued_at" | "started_at" | "finished_at"> | undefined>(
-      "id", "state", "progress", "error", "attempts", "queued_at", "started_at", "finished_at",
-    );
-  return (
-    row && {
-      id: row.id,
-      state: row.state,
-      progress: row.progress,
-      error: row.error,
-      attempts: row.attempts,
-      queuedAt: row.queued_at,
-      startedAt: row.started_at,
-      finishedAt: row.finished_at,
-    }
-  );
+  const row = await db("renders").where({ id }).first<StatusRow | undefined>(...STATUS_COLUMNS);
+  return row && statusFromRow(row);
 }
 
 /** A track's renders over all its mix versions, newest first. */
