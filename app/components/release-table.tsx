@@ -1,18 +1,12 @@
 // The releases table: a table on wide screens, a stack of cards on a phone.
 import { Link } from "react-router";
-import { RELEASE_KIND_LABELS, type ReleaseKind, type ReleaseStatus } from "../schemas/release.ts";
+import type { ReleaseRow } from "../models/release.server.ts";
+import { RELEASE_KIND_LABELS } from "../schemas/release.ts";
 import { StatusBadge } from "./status-badge.tsx";
 import { DataTable } from "./data-table.tsx";
 
-export type ReleaseListItem = {
-  id: string;
-  title: string;
-  kind: ReleaseKind;
-  status: ReleaseStatus;
-  clientName: string;
-  trackCount: number;
-  dueOn: string | null;
-};
+/** What a row shows: a release as the releases query reads it. */
+export type ReleaseListItem = Omit<ReleaseRow, "updatedAt">;
 
 function tracksLabel(count: number) {
   return `${count} ${count === 1 ? "track" : "tracks"}`;

@@ -1,20 +1,12 @@
 // The renders of a track: what was rendered from what, and how far it got.
 import { Link } from "react-router";
+import type { RenderListItem } from "../../lib/render-views.server.ts";
 import { RenderProgress } from "./progress-bar.tsx";
 import { fmt } from "./format.ts";
 import { DataTable } from "../data-table.tsx";
 
-export type RenderListRow = {
-  id: string;
-  kind: string;
-  state: string;
-  progress: number;
-  mixVersion: number;
-  chainName: string;
-  chainRevision: number;
-  region: { startS: number; endS: number } | null;
-  targetLufs: number | null;
-};
+/** What a row shows: a render as the track's render list reads it. */
+export type RenderListRow = Omit<RenderListItem, "queuedAt" | "error">;
 
 export function RenderList({ renders, base }: { renders: RenderListRow[]; base: string }) {
   return (
