@@ -1,5 +1,6 @@
 // A labelled form control with its error beside it; keeps what was entered.
 import { useId } from "react";
+import { Link } from "react-router";
 
 type Common = { label: string; name: string; error?: string; hint?: string; className?: string };
 
@@ -78,5 +79,19 @@ export function FormNotice({ message, tone = "danger" }: { message?: string; ton
     <p className={`rounded-md border px-3 py-2 text-sm ${colours}`} role={tone === "danger" ? "alert" : "status"}>
       {message}
     </p>
+  );
+}
+
+/** A form's submit button and its way out. */
+export function FormActions({ submitLabel, cancelTo, className = "flex flex-wrap gap-2 pt-1" }: { submitLabel: string; cancelTo: string; className?: string }) {
+  return (
+    <div className={className}>
+      <button type="submit" className="btn-primary">
+        {submitLabel}
+      </button>
+      <Link to={cancelTo} className="btn-quiet">
+        Cancel
+      </Link>
+    </div>
   );
 }

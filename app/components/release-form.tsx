@@ -1,7 +1,7 @@
-import { Form, Link } from "react-router";
+import { Form } from "react-router";
 import type { FieldErrors } from "../lib/forms.ts";
 import { RELEASE_KINDS, RELEASE_KIND_LABELS, RELEASE_STATUSES, RELEASE_STATUS_LABELS } from "../schemas/release.ts";
-import { SelectField, TextField } from "./field.tsx";
+import { FormActions, SelectField, TextField } from "./field.tsx";
 
 export type ReleaseFormValues = { title?: string; kind?: string; clientId?: string; status?: string; dueOn?: string };
 
@@ -47,14 +47,7 @@ export function ReleaseForm({
         />
         <TextField label="Due" name="dueOn" type="date" defaultValue={values.dueOn} error={errors.dueOn} hint="Optional" />
       </div>
-      <div className="flex flex-wrap gap-2 pt-1">
-        <button type="submit" className="btn-primary">
-          {submitLabel}
-        </button>
-        <Link to={cancelTo} className="btn-quiet">
-          Cancel
-        </Link>
-      </div>
+      <FormActions submitLabel={submitLabel} cancelTo={cancelTo} />
     </Form>
   );
 }

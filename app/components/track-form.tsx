@@ -1,6 +1,6 @@
-import { Form, Link } from "react-router";
+import { Form } from "react-router";
 import type { FieldErrors } from "../lib/forms.ts";
-import { TextField } from "./field.tsx";
+import { FormActions, TextField } from "./field.tsx";
 
 export type TrackFormValues = { title?: string; position?: string; isrc?: string };
 
@@ -22,14 +22,7 @@ export function TrackForm({
         <TextField label="Title" name="title" defaultValue={values.title} error={errors.title} required />
       </div>
       <TextField label="ISRC" name="isrc" defaultValue={values.isrc} error={errors.isrc} hint="Optional, e.g. GB-XYZ-27-00001" autoCapitalize="characters" />
-      <div className="flex flex-wrap gap-2 pt-1">
-        <button type="submit" className="btn-primary">
-          {submitLabel}
-        </button>
-        <Link to={cancelTo} className="btn-quiet">
-          Cancel
-        </Link>
-      </div>
+      <FormActions submitLabel={submitLabel} cancelTo={cancelTo} />
     </Form>
   );
 }

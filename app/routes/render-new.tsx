@@ -1,7 +1,7 @@
 // A new render of the track: a mix version through a chain's latest revision,
 // as a preview (a region, or the loudest 30 s) or a print. Staff only.
 import { useState } from "react";
-import { data, Form, Link, redirect } from "react-router";
+import { data, Form, redirect } from "react-router";
 import type { Route } from "./+types/render-new";
 import { STAFF } from "../lib/roles.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
@@ -11,7 +11,7 @@ import { listMixVersions } from "../models/mix.server.ts";
 import { createRender } from "../models/render.server.ts";
 import { renderNewSchema } from "../schemas/render-new.ts";
 import { BackLink, PageHeader } from "../components/page-header.tsx";
-import { SelectField, TextField } from "../components/field.tsx";
+import { FormActions, SelectField, TextField } from "../components/field.tsx";
 import { fmtDuration } from "../components/render/format.ts";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -109,14 +109,7 @@ export default function RenderNew({ loaderData, actionData }: Route.ComponentPro
             error={errors.targetLufs}
             hint="Leave empty to render at the chain's own level."
           />
-          <div className="flex flex-wrap gap-3">
-            <button type="submit" className="btn-primary">
-              Render
-            </button>
-            <Link to={base} className="btn-quiet">
-              Cancel
-            </Link>
-          </div>
+          <FormActions submitLabel="Render" cancelTo={base} className="flex flex-wrap gap-3" />
         </Form>
       )}
     </>
