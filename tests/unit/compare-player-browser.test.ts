@@ -44,6 +44,32 @@ function sineWav(dbfs: number, seconds = SECONDS): Buffer {
   return Buffer.concat([header, data]);
 }
 
+/** The same sine as 64-bit float samples, which Chromium's own decoder refuses (the player converts them). */
+function sineWavFloat64(dbfs: number, seconds = SECONDS): Buffer {
+  const frames = SR * seconds;
+  const data = Buffer.alloc(frames * 16);
+  const amp = Math.pow(10, dbfs / 20);
+  for (let i = 0; i < frames; i++) {
+    const v = amp * Math.sin((2 * Math.PI * 1000 * i) / SR);
+    data.writeDoubleLE(v, i * 16);
+    data.writeDoubleLE(v, i * 16 + 8);
+  }
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0);
+  header.writeUInt32LE(36 + data.length, 4);
+  header.write("WAVEfmt ", 8);
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(3, 20);
+  header.writeUInt16LE(2, 22);
+  header.writeUInt32LE(SR, 24);
+  header.writeUInt32LE(SR * 16, 28);
+  header.writeUInt16LE(16, 32);
+  header.writeUInt16LE(64, 34);
+  header.write("data", 36);
+  header.writeUInt32LE(data.length, 40);
+  return Buffer.concat([header, data]);
+}
+
 let dir: string;
 let server: import("vite").ViteDevServer | undefined;
 let browser: Browser | undefined;
@@ -61,6 +87,7 @@ describe.skipIf(!existsSync(CHROMIUM))("A/B player in chromium", () => {
     await symlink(resolve("node_modules"), join(dir, "node_modules"), "dir");
     await writeFile(join(dir, "a.wav"), sineWav(-14));
     await writeFile(join(dir, "b.wav"), sineWav(-20));
+    await writeFile(join(dir, "f64.wav"), sineWavFloat64(-20));
     // Long enough to be loaded in two steps (progressive-wav.ts): 12 s first, then the rest.
     await writeFile(join(dir, "long-a.wav"), sineWav(-14, 90));
     await writeFile(join(dir, "long-b.wav"), sineWav(-20, 90));
@@ -84,7 +111,9 @@ new MutationObserver(() => {
   if (v && seen.at(-1) !== v) seen.push(v);
 }).observe(document.body, { subtree: true, attributes: true, childList: true });
 createRoot(document.getElementById("root")!).render(
-  location.search.includes("long") ? (
+  location.search.includes("f64") ? (
+    <AbPlayer a={{ url: "/a.wav", label: "16-bit" }} b={{ url: "/f64.wav", label: "64-bit float" }} />
+  ) : location.search.includes("long") ? (
     <AbPlayer a={{ url: "/long-a.wav", label: "long louder", integratedLufs: -17 }} b={{ url: "/long-b.wav", label: "long quieter", integratedLufs: -23 }} />
   ) : (
   <>
@@ -127,6 +156,25 @@ createRoot(document.getElementById("root")!).render(
     // 1 kHz sines 6 dB apart (EBU Tech 3341-style signals): the difference of their loudness is 6 dB.
     expect(gainDb).toBeCloseTo(-6, 1);
     expect(await page.getByTestId("monitoring-reminder").isVisible()).toBe(true);
+  });
+
+  it("plays a 64-bit float source (which the browser's decoder refuses) and level-matches it", async () => {
+    const f64 = await browser!.newPage();
+    try {
+      // First, the browser on its own: decodeAudioData refuses the file, so the player must convert it.
+      await f64.goto(`${server!.resolvedUrls!.local[0]}?f64`);
+      const raw = await f64.evaluate(async () => {
+        const bytes = await (await fetch("/f64.wav")).arrayBuffer();
+        return new OfflineAudioContext(2, 48000, 48000).decodeAudioData(bytes).then(() => "decoded", () => "refused");
+      });
+      expect(raw).toBe("refused");
+      await f64.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-state") === "ready", null, { timeout: 60_000 });
+      await f64.waitForFunction(() => document.querySelector("[data-testid=ab-player]")?.getAttribute("data-match-gain-db") !== "0.00");
+      const gainDb = Number(await f64.getByTestId("ab-player").getAttribute("data-match-gain-db"));
+      expect(gainDb).toBeCloseTo(-6, 1);
+    } finally {
+      await f64.close();
+    }
   });
 
   it("asks for a safe monitoring level before the first playback, then plays", async () => {

@@ -36,6 +36,36 @@ async function writeRamp(name: string, seconds: number, bitDepth: 16 | 24, exten
   files[name] = await readFile(path);
 }
 
+/** A 64-bit float WAV of the ramp, written by hand (our writer makes 32-bit float only), plain or extensible. */
+function float64Ramp(name: string, seconds: number, extensible: boolean) {
+  const frames = seconds * SR, channels = 2;
+  const body = extensible ? 40 : 16;
+  const header = 12 + 8 + body + 8;
+  const buf = Buffer.alloc(header + frames * channels * 8);
+  buf.write("RIFF", 0, "latin1");
+  buf.writeUInt32LE(buf.length - 8, 4);
+  buf.write("WAVE", 8, "latin1");
+  buf.write("fmt ", 12, "latin1");
+  buf.writeUInt32LE(body, 16);
+  buf.writeUInt16LE(extensible ? 0xfffe : 3, 20);
+  buf.writeUInt16LE(channels, 22);
+  buf.writeUInt32LE(SR, 24);
+  buf.writeUInt32LE(SR * channels * 8, 28);
+  buf.writeUInt16LE(channels * 8, 32);
+  buf.writeUInt16LE(64, 34);
+  if (extensible) {
+    buf.writeUInt16LE(22, 36); // cbSize
+    buf.writeUInt16LE(64, 38); // valid bits
+    buf.writeUInt32LE(3, 40); // channel mask: front left and right
+    // KSDATAFORMAT_SUBTYPE_IEEE_FLOAT: 00000003-0000-0010-8000-00aa00389b71
+    Buffer.from("0300000000001000800000aa00389b71", "hex").copy(buf, 44);
+  }
+  buf.write("data", 12 + 8 + body, "latin1");
+  buf.writeUInt32LE(frames * channels * 8, 12 + 8 + body + 4);
+  for (let i = 0; i < frames; i++) for (let c = 0; c < channels; c++) buf.writeDoubleLE(valueAt(i, c), header + (i * channels + c) * 8);
+  files[name] = buf;
+}
+
 type Served = { url: string; range: string | null; bytes: number }[];
 
 /** Serves `files` by name; with `ranges` false, ignores Range and sends the whole file (200). */
@@ -94,6 +124,8 @@ beforeAll(async () => {
   await writeRamp("mix.wav", 40, 24, true);
   await writeRamp("preview.wav", 20, 16);
   await writeRamp("short.wav", 5, 16);
+  float64Ramp("float64.wav", 20, false);
+  float64Ramp("float64-ext.wav", 20, true);
 });
 
 afterAll(async () => {
@@ -113,6 +145,29 @@ describe("WAV layout and segments", () => {
     expect(decoded.length).toBe(1000);
     expect(worstError(decoded, 1000)).toBeLessThan(1e-6);
     expect(parseWavLayout(new TextEncoder().encode("liner notes, not audio"), 22)).toBeNull();
+  });
+});
+
+describe("64-bit float sources (Chromium's decoder refuses them: see compare-player-browser.test.ts)", () => {
+  it.each(["float64.wav", "float64-ext.wav"])("%s: segments go out as 32-bit float WAVs holding the same samples rounded to float32", async (name) => {
+    const file = files[name];
+    const layout = parseWavLayout(file.subarray(0, 4096), file.length)!;
+    expect(layout).toMatchObject({ sampleRate: SR, channels: 2, blockAlign: 16, frames: 20 * SR, float64: true });
+    const segment = wavFromFrames(layout, file.subarray(layout.dataOffset + 1000 * 16, layout.dataOffset + 3000 * 16));
+    const out = parseWavLayout(new Uint8Array(segment), segment.byteLength)!;
+    expect(out).toMatchObject({ channels: 2, blockAlign: 8, frames: 2000, float64: false });
+    expect(new DataView(segment).getUint16(20, true)).toBe(3);
+    const decoded = await fakeIo([]).decode(segment);
+    for (let c = 0; c < 2; c++) for (let i = 0; i < 2000; i += 37) expect(decoded.getChannelData(c)[i]).toBe(Math.fround(valueAt(1000 + i, c)));
+  });
+
+  it("a 64-bit float mix opens against a print like any other source", async () => {
+    const opened = await openPair({ A: { url: "/float64.wav", offsetS: 0 }, B: { url: "/print.wav", offsetS: 0 } }, fakeIo([]));
+    expect(opened.span).toEqual({ startS: 0, endS: 20 });
+    expect(worstError(opened.first.A.buffer, 0)).toBeLessThan(1e-7);
+    const rest = await opened.rest.A!;
+    expect(rest.buffer.length).toBe(20 * SR);
+    expect(worstError(rest.buffer, 0)).toBeLessThan(1e-7);
   });
 });
 

@@ -37,6 +37,8 @@ export type WavLayout = {
   /** Byte offset of the first sample. */
   dataOffset: number;
   frames: number;
+  /** 64-bit float samples: browsers' decoders refuse them, so segments carry them as 32-bit float (wavFromFrames). */
+  float64: boolean;
 };
 
 const ascii = (bytes: Uint8Array, at: number) => String.fromCharCode(bytes[at], bytes[at + 1], bytes[at + 2], bytes[at + 3]);
@@ -60,23 +62,63 @@ export function parseWavLayout(head: Uint8Array, totalBytes: number): WavLayout 
     } else if (id === "data") {
       if (!fmt) return null;
       const fmtView = new DataView(fmt.buffer, fmt.byteOffset, fmt.byteLength);
+      const formatTag = fmtView.getUint16(8, true);
       const channels = fmtView.getUint16(10, true);
       const sampleRate = fmtView.getUint32(12, true);
       const blockAlign = fmtView.getUint16(20, true);
+      const bitsPerSample = fmtView.getUint16(22, true);
       if (!channels || !sampleRate || !blockAlign) return null;
+      // WAVE_FORMAT_EXTENSIBLE (0xFFFE) names the real format in the first two bytes of its sub-format GUID.
+      const code = formatTag === 0xfffe && fmt.length >= 8 + 26 ? fmtView.getUint16(8 + 24, true) : formatTag;
+      const float64 = code === 3 && bitsPerSample === 64;
       const dataOffset = pos + 8;
       // 0 and 0xFFFFFFFF are placeholders of writers that stream without patching: the data runs to the end.
       const declared = size === 0 || size === 0xffffffff ? totalBytes - dataOffset : size;
       const dataBytes = Math.max(0, Math.min(declared, totalBytes - dataOffset));
-      return { fmtChunk: fmt, sampleRate, channels, blockAlign, dataOffset, frames: Math.floor(dataBytes / blockAlign) };
+      return { fmtChunk: fmt, sampleRate, channels, blockAlign, dataOffset, frames: Math.floor(dataBytes / blockAlign), float64 };
     }
     pos += 8 + size + (size & 1); // chunks are padded to even sizes
   }
   return null;
 }
 
-/** A complete WAV file of `pcm` (whole frames of the layout's format): RIFF, the original format chunk, one data chunk. */
+/** A plain 32-bit IEEE float format chunk for this rate and channel count. */
+function float32FmtChunk(sampleRate: number, channels: number): Uint8Array {
+  const chunk = new Uint8Array(8 + 16);
+  const view = new DataView(chunk.buffer);
+  [..."fmt "].forEach((c, i) => (chunk[i] = c.charCodeAt(0)));
+  view.setUint32(4, 16, true);
+  view.setUint16(8, 3, true); // WAVE_FORMAT_IEEE_FLOAT
+  view.setUint16(10, channels, true);
+  view.setUint32(12, sampleRate, true);
+  view.setUint32(16, sampleRate * channels * 4, true);
+  view.setUint16(20, channels * 4, true);
+  view.setUint16(22, 32, true);
+  return chunk;
+}
+
+/** 64-bit float frames as 32-bit float (what a player needs: 24 bits of mantissa are far below audibility). */
+function float64ToFloat32(pcm: Uint8Array, frames: number, channels: number): Uint8Array {
+  const values = frames * channels;
+  const out = new Uint8Array(values * 4);
+  const from = new DataView(pcm.buffer, pcm.byteOffset, values * 8);
+  const to = new DataView(out.buffer);
+  for (let i = 0; i < values; i++) to.setFloat32(i * 4, from.getFloat64(i * 8, true), true);
+  return out;
+}
+
+/**
+ * A complete WAV file of `pcm` (whole frames of the layout's format): RIFF,
+ * the original format chunk, one data chunk. 64-bit float, which browsers
+ * do not decode, goes out as 32-bit float.
+ */
 export function wavFromFrames(layout: WavLayout, pcm: Uint8Array): ArrayBuffer {
+  if (layout.float64) {
+    const frames = Math.floor(pcm.length / layout.blockAlign);
+    const converted = float64ToFloat32(pcm, frames, layout.channels);
+    const as32: WavLayout = { ...layout, fmtChunk: float32FmtChunk(layout.sampleRate, layout.channels), blockAlign: layout.channels * 4, float64: false };
+    return wavFromFrames(as32, converted);
+  }
   const bytes = pcm.length - (pcm.length % layout.blockAlign);
   const out = new Uint8Array(12 + layout.fmtChunk.length + 8 + bytes);
   const view = new DataView(out.buffer);
