@@ -5,8 +5,9 @@
 // dB (or the program-dependent "auto" release) → makeup. The same gain is
 // applied to every channel, so the stereo image does not shift.
 // Speed: each step is one tight loop over the block (sidechain filter and
-// detector for both channels, static curve and smoothing, gain, audio); a block below the knee with the envelopes at rest skips from the
-// detector straight to the makeup gain; the level (dB) and the gain use
+// detector for both channels, static curve and smoothing, gain, audio); a
+// block below the knee with the envelopes at rest skips from the detector
+// straight to the makeup gain; the level (dB) and the gain use
 // fastLog2 / fastExp2 (dsp/fast-math.ts, errors around 1e-12 dB), the
 // per-frame logarithm and exponential having been most of the cost. (One
 // loop for detector and static curve together measured slower in V8.)
@@ -25,9 +26,8 @@
 // changes the result. Faster settings keep the per-frame path. The
 // detector's one-pole still sees every frame, but is read only at group
 // ends (rms-detector-control.ts: the recursion in closed form per group).
-// Tests hold the control-rate path to a
-// reference composed at the control rate (to 1e-12) and to the per-frame
-// path (see compressor.test.ts).
+// Tests hold the control-rate path to a reference composed at the control
+// rate (to 1e-12) and to the per-frame path (see compressor.test.ts).
 
 import { fastExp2, fastLog2 } from "../fast-math.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
