@@ -19,6 +19,7 @@ import { reviewPageAction, type ReviewActionData } from "../lib/review/page-acti
 import { diffParams } from "../models/chain.server.ts";
 import { listComments } from "../models/comment.server.ts";
 import { listCompareSources, sourceAnalysis, sourceTraces, type CompareSource } from "../models/compare-source.server.ts";
+import { shownReviewState } from "../lib/review/state.ts";
 import { getTrackReview } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
 import { AbPlayer } from "../components/player/ab-player.tsx";
@@ -79,7 +80,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     a: a && view(a),
     b: b && view(b),
     analyses: { a: analysisA, b: analysisB },
-    review: review.state,
+    review: shownReviewState(review.state),
     comments: a ? await listComments(a.type === "render" ? { renderId: a.id } : { mixId: a.id }) : [],
     aligned,
     changes,

@@ -10,6 +10,7 @@ import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff } from "../lib/roles.ts";
 import { listComments } from "../models/comment.server.ts";
+import { shownReviewState } from "../lib/review/state.ts";
 import { getTrackReview, listReviewableRenders } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
 import { reviewPageAction } from "../lib/review/page-action.server.ts";
@@ -24,7 +25,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  const review = (await getTrackReview(track.id)).state;
+  const review = shownReviewState((await getTrackReview(track.id)).state);
   // What the client may hear is what was sent; staff see the same page for the sent renders.
   const sent = (await listReviewableRenders(user, track.id)).filter((r) => r.sentForReview);
   const wanted = new URL(request.url).searchParams.get("render");

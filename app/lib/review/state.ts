@@ -44,6 +44,12 @@ export type ReviewState = {
 
 export const INITIAL_REVIEW_STATE: ReviewState = { status: "in_progress", underReviewRenderId: null, approvedRenderId: null, approvedRecipe: null, changesNote: null, since: null };
 
+/** The state as a page shows it: without the recipe, an internal key of ids. */
+export type ShownReviewState = Omit<ReviewState, "approvedRecipe">;
+export function shownReviewState({ approvedRecipe: _recipe, ...shown }: ReviewState): ShownReviewState {
+  return shown;
+}
+
 /** What makes two renders the same master: mix version, chain revision and loudness target (not the region). */
 export function renderRecipe(r: { mixId: string; chainRevisionId: string; targetLufs: number | null }): string {
   return `${r.mixId}|${r.chainRevisionId}|${r.targetLufs ?? ""}`;
