@@ -18,6 +18,25 @@ const CHROMIUM = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
 const SR = 48_000;
 const SECONDS = 6;
 
+/** A 44-byte stereo WAV header: format 1 (PCM) or 3 (IEEE float), `bits` per sample. */
+function wavHeader(format: 1 | 3, bits: number, dataBytes: number): Buffer {
+  const blockAlign = 2 * (bits / 8);
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0);
+  header.writeUInt32LE(36 + dataBytes, 4);
+  header.write("WAVEfmt ", 8);
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(format, 20);
+  header.writeUInt16LE(2, 22);
+  header.writeUInt32LE(SR, 24);
+  header.writeUInt32LE(SR * blockAlign, 28);
+  header.writeUInt16LE(blockAlign, 32);
+  header.writeUInt16LE(bits, 34);
+  header.write("data", 36);
+  header.writeUInt32LE(dataBytes, 40);
+  return header;
+}
+
 /** 16-bit stereo PCM WAV of a 1 kHz sine at `dbfs`. */
 function sineWav(dbfs: number, seconds = SECONDS): Buffer {
   const frames = SR * seconds;
@@ -28,20 +47,7 @@ function sineWav(dbfs: number, seconds = SECONDS): Buffer {
     data.writeInt16LE(v, i * 4);
     data.writeInt16LE(v, i * 4 + 2);
   }
-  const header = Buffer.alloc(44);
-  header.write("RIFF", 0);
-  header.writeUInt32LE(36 + data.length, 4);
-  header.write("WAVEfmt ", 8);
-  header.writeUInt32LE(16, 16);
-  header.writeUInt16LE(1, 20);
-  header.writeUInt16LE(2, 22);
-  header.writeUInt32LE(SR, 24);
-  header.writeUInt32LE(SR * 4, 28);
-  header.writeUInt16LE(4, 32);
-  header.writeUInt16LE(16, 34);
-  header.write("data", 36);
-  header.writeUInt32LE(data.length, 40);
-  return Buffer.concat([header, data]);
+  return Buffer.concat([wavHeader(1, 16, data.length), data]);
 }
 
 /** The same sine as 64-bit float samples, which Chromium's own decoder refuses (the player converts them). */
@@ -54,20 +60,7 @@ function sineWavFloat64(dbfs: number, seconds = SECONDS): Buffer {
     data.writeDoubleLE(v, i * 16);
     data.writeDoubleLE(v, i * 16 + 8);
   }
-  const header = Buffer.alloc(44);
-  header.write("RIFF", 0);
-  header.writeUInt32LE(36 + data.length, 4);
-  header.write("WAVEfmt ", 8);
-  header.writeUInt32LE(16, 16);
-  header.writeUInt16LE(3, 20);
-  header.writeUInt16LE(2, 22);
-  header.writeUInt32LE(SR, 24);
-  header.writeUInt32LE(SR * 16, 28);
-  header.writeUInt16LE(16, 32);
-  header.writeUInt16LE(64, 34);
-  header.write("data", 36);
-  header.writeUInt32LE(data.length, 40);
-  return Buffer.concat([header, data]);
+  return Buffer.concat([wavHeader(3, 64, data.length), data]);
 }
 
 let dir: string;
