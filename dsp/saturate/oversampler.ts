@@ -65,28 +65,11 @@ class HalfBandPair {
 
   /** x (n samples) → y (2n samples at the doubled rate). */
   up(x: Float64Array, n: number, y: Float64Array): void {
-    const a0 = this.a0, a1 = this.a1, s = this.upState, n0 = a0.length, n1 = a1.length;
+    const a0 = this.a0, a1 = this.a1, s = this.upState;
     for (let i = 0; i < n; i++) {
       const input = x[i], prev = s[0];
-      let v = input, vp = prev;
-      for (let k = 0; k < n0; k++) {
-        const o = s[1 + k];
-        const out = a0[k] * (v - o) + vp;
-        vp = o;
-        s[1 + k] = out;
-        v = out;
-      }
-      y[2 * i] = v;
-      v = input;
-      vp = prev;
-      for (let k = 0; k < n1; k++) {
-        const o = s[1 + n0 + k];
-        const out = a1[k] * (v - o) + vp;
-        vp = o;
-        s[1 + n0 + k] = out;
-        v = out;
-      }
-      y[2 * i + 1] = v;
+      y[2 * i] = cascade(a0, s, 1, input, prev);
+      y[2 * i + 1] = cascade(a1, s, 1 + a0.length, input, prev);
       s[0] = input;
       if (--this.upUntilFlush === 0) {
         this.upUntilFlush = FLUSH_INTERVAL_FRAMES;
@@ -97,29 +80,13 @@ class HalfBandPair {
 
   /** u (2n samples) → x (n samples). */
   down(u: Float64Array, n: number, x: Float64Array): void {
-    const a0 = this.a0, a1 = this.a1, s = this.downState, n0 = a0.length, n1 = a1.length;
+    const a0 = this.a0, a1 = this.a1, s = this.downState;
     for (let i = 0; i < n; i++) {
       const even = u[2 * i], odd = u[2 * i + 1];
-      let v = even, vp = s[0];
-      for (let k = 0; k < n0; k++) {
-        const o = s[3 + k];
-        const out = a0[k] * (v - o) + vp;
-        vp = o;
-        s[3 + k] = out;
-        v = out;
-      }
-      const b0 = v;
-      v = odd;
-      vp = s[1];
-      for (let k = 0; k < n1; k++) {
-        const o = s[3 + n0 + k];
-        const out = a1[k] * (v - o) + vp;
-        vp = o;
-        s[3 + n0 + k] = out;
-        v = out;
-      }
+      const b0 = cascade(a0, s, 3, even, s[0]);
+      const b1 = cascade(a1, s, 3 + a0.length, odd, s[1]);
       x[i] = 0.5 * (b0 + s[2]);
-      s[2] = v;
+      s[2] = b1;
       s[0] = even;
       s[1] = odd;
       if (--this.downUntilFlush === 0) {
@@ -128,6 +95,24 @@ class HalfBandPair {
       }
     }
   }
+}
+
+/**
+ * One sample through a cascade of first-order all-passes
+ * y = a·(v − y₋₁) + v₋₁: `input` and its predecessor `prev` enter the first
+ * section; state[o + k] holds section k's previous output (the next
+ * section's previous input). Returns the last section's output.
+ */
+function cascade(coefs: Float64Array, state: Float64Array, o: number, input: number, prev: number): number {
+  let v = input, vp = prev;
+  for (let k = 0; k < coefs.length; k++) {
+    const old = state[o + k];
+    const out = coefs[k] * (v - old) + vp;
+    vp = old;
+    state[o + k] = out;
+    v = out;
+  }
+  return v;
 }
 
 const latencyCache = new Map<number, number>();
