@@ -98,6 +98,8 @@ export class Compressor implements Processor, GainReductionSource {
   private prevGain: number;
   private curGain: number;
   private pendingCount = 0;
+  /** The last controlBlock() found the block at rest (see there). */
+  private blockAtRest = false;
 
   constructor(
     sampleRate: number,
@@ -114,7 +116,7 @@ export class Compressor implements Processor, GainReductionSource {
     const controlLength = this.controlFrames > 1 ? Math.ceil(maxBlockFrames / this.controlFrames) + 1 : 0;
     this.controlDb = new Float64Array(controlLength);
     this.controlGain = new Float64Array(controlLength);
-    this.power = new Float64Array(maxBlockFrames);
+    this.power = new Float64Array(this.controlFrames > 1 ? 0 : maxBlockFrames); // the per-frame detector's output
     this.gainBuffer = new Float64Array(maxBlockFrames);
     this.threshold = settings.thresholdDb;
     this.slope = 1 - 1 / settings.ratio;
@@ -140,7 +142,7 @@ export class Compressor implements Processor, GainReductionSource {
   detect(channels: Planar, frames: number, outDb: Float64Array): void {
     if (this.controlFrames > 1) {
       const count = this.controlBlock(channels, frames);
-      if (count < 0) outDb.fill(0, 0, frames);
+      if (this.blockAtRest) outDb.fill(0, 0, frames);
       else this.interpolate(outDb, frames, this.controlDb, this.prevDb, this.curDb);
       this.advance(frames, count);
       return;
@@ -160,12 +162,8 @@ export class Compressor implements Processor, GainReductionSource {
    */
   beginControl(input: Planar, frames: number): void {
     const count = this.controlBlock(input, frames);
-    if (count < 0) {
-      // At rest: every value is the makeup gain (prev and cur are too).
-      const k = this.controlFrames, first = k - 1 - this.phase;
-      const ends = first < frames ? Math.floor((frames - 1 - first) / k) + 1 : 0;
-      this.controlGain.fill(this.makeupGain, 0, ends);
-    }
+    // At rest: every value is the makeup gain (prev and cur are too).
+    if (this.blockAtRest) this.controlGain.fill(this.makeupGain, 0, count);
     this.pendingCount = count;
   }
 
@@ -193,7 +191,7 @@ export class Compressor implements Processor, GainReductionSource {
   gain(channels: Planar, frames: number, out: Float64Array): void {
     if (this.controlFrames > 1) {
       const count = this.controlBlock(channels, frames);
-      if (count < 0) out.fill(this.makeupGain, 0, frames);
+      if (this.blockAtRest) out.fill(this.makeupGain, 0, frames);
       else this.interpolate(out, frames, this.controlGain, this.prevGain, this.curGain);
       this.advance(frames, count);
       return;
@@ -279,14 +277,16 @@ export class Compressor implements Processor, GainReductionSource {
   /**
    * Control-rate path: the detector over the block, then the control values
    * (dB into controlDb, linear gain with makeup into controlGain) at the
-   * block's control frames, the last frame of each group. Returns their
-   * number, or −1 when the block is below the knee with everything at rest
-   * (no reduction anywhere: the caller fills in the makeup gain).
+   * block's control frames, the last frame of each group; returns their
+   * number. When the block stays below the knee with everything at rest
+   * (no reduction anywhere) it sets blockAtRest and leaves the values alone:
+   * the caller fills in the makeup gain, and advance() keeps the state.
    */
   private controlBlock(input: Planar, frames: number): number {
     const db = this.controlDb, gain = this.controlGain;
     const count = this.controlDetector!.process(input, frames, db, this.maxScratch);
-    if (!(this.maxScratch[0] > this.kneeStartPower) && this.smoother.atRest && this.prevDb === 0 && this.curDb === 0) return -1;
+    this.blockAtRest = !(this.maxScratch[0] > this.kneeStartPower) && this.smoother.atRest && this.prevDb === 0 && this.curDb === 0;
+    if (this.blockAtRest) return count;
     this.reductionFromPower(db, count, db);
     const makeup = this.makeupDb;
     for (let j = 0; j < count; j++) gain[j] = fastExp2((makeup - db[j]) * DB_TO_LOG2_GAIN);
@@ -312,9 +312,10 @@ export class Compressor implements Processor, GainReductionSource {
     }
   }
 
-  /** After a block: the group position and the last two control values (count < 0: a block at rest). */
+  /** After a block: the group position and the last two control values (unchanged after a block at rest). */
   private advance(frames: number, count: number): void {
     this.phase = (this.phase + frames) % this.controlFrames;
+    if (this.blockAtRest) return;
     if (count >= 2) {
       this.prevDb = this.controlDb[count - 2];
       this.curDb = this.controlDb[count - 1];

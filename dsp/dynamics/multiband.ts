@@ -63,10 +63,10 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     if (this.fusedControl) {
       // The usual case: four stereo bands on the control-rate path, their
       // gains interpolated inside the summing loop (no gain arrays).
-      const [a, b, c, d] = this.compressors as Compressor[];
-      for (let k = 0; k < 4; k++) (this.compressors[k] as Compressor).beginControl(bands[k], frames);
-      sumFourStereoInterpolated(channels, bands, a, b, c, d, frames);
-      for (let k = 0; k < 4; k++) (this.compressors[k] as Compressor).endControl(frames);
+      const comps = this.compressors as Compressor[]; // none is null here (fusedControl)
+      for (let k = 0; k < 4; k++) comps[k].beginControl(bands[k], frames);
+      sumFourStereoInterpolated(channels, bands, comps[0], comps[1], comps[2], comps[3], frames);
+      for (const comp of comps) comp.endControl(frames);
       return;
     }
     let audibleCount = 0;

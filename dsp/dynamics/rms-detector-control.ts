@@ -70,34 +70,32 @@ export class ControlRateRmsDetector {
     const hp = this.hasHighPass, g = this.g, a1 = this.a1, a2 = this.a2;
     let count = 0, max = 0;
     let i = 0;
-    if (nch === 2 && !hp && k === 4) {
-      // The common case written out: whole groups of four, the sum as a tree.
+    // The common cases written out: stereo, whole groups of four, the sum as
+    // a tree. (A group a previous block left open goes to the loop below.)
+    if (nch === 2 && k === 4 && this.position === 0 && !hp) {
       const w0 = w[0], w1 = w[1], w2 = w[2], w3 = w[3];
       const l = input[0], r = input[1];
       let mL = ms[0], mR = ms[1];
-      // (A group a previous block left open is finished by the loop below.)
-      if (this.position === 0) {
-        let flushIn = this.untilFlush;
-        for (; i + 4 <= frames; i += 4) {
-          const a0 = l[i], a1_ = l[i + 1], a2_ = l[i + 2], a3 = l[i + 3];
-          const b0 = r[i], b1 = r[i + 1], b2 = r[i + 2], b3 = r[i + 3];
-          // groupSum's arithmetic for k = 4.
-          mL = decay * mL + ((w0 * (a0 * a0) + w1 * (a1_ * a1_)) + (w2 * (a2_ * a2_) + w3 * (a3 * a3)));
-          mR = decay * mR + ((w0 * (b0 * b0) + w1 * (b1 * b1)) + (w2 * (b2 * b2) + w3 * (b3 * b3)));
-          const m = mL > mR ? mL : mR;
-          out[count++] = m;
-          if (m > max) max = m;
-          if (--flushIn === 0) {
-            flushIn = this.flushGroups;
-            if (mL < FLUSH_POWER_BELOW) mL = 0;
-            if (mR < FLUSH_POWER_BELOW) mR = 0;
-          }
+      let flushIn = this.untilFlush;
+      for (; i + 4 <= frames; i += 4) {
+        const a0 = l[i], a1_ = l[i + 1], a2_ = l[i + 2], a3 = l[i + 3];
+        const b0 = r[i], b1 = r[i + 1], b2 = r[i + 2], b3 = r[i + 3];
+        // groupSum's arithmetic for k = 4.
+        mL = decay * mL + ((w0 * (a0 * a0) + w1 * (a1_ * a1_)) + (w2 * (a2_ * a2_) + w3 * (a3 * a3)));
+        mR = decay * mR + ((w0 * (b0 * b0) + w1 * (b1 * b1)) + (w2 * (b2 * b2) + w3 * (b3 * b3)));
+        const m = mL > mR ? mL : mR;
+        out[count++] = m;
+        if (m > max) max = m;
+        if (--flushIn === 0) {
+          flushIn = this.flushGroups;
+          if (mL < FLUSH_POWER_BELOW) mL = 0;
+          if (mR < FLUSH_POWER_BELOW) mR = 0;
         }
-        this.untilFlush = flushIn;
       }
+      this.untilFlush = flushIn;
       ms[0] = mL;
       ms[1] = mR;
-    } else if (nch === 2 && hp && k === 4 && this.position === 0) {
+    } else if (nch === 2 && k === 4 && this.position === 0) {
       // The same with the sidechain high-pass (its arithmetic as in the loop below), both channels interleaved.
       const w0 = w[0], w1 = w[1], w2 = w[2], w3 = w[3];
       const l = input[0], r = input[1];
