@@ -249,7 +249,7 @@ describe("the compressor's per-frame block path (reference: RmsDetector → gain
   });
 });
 
-describe("the compressor's control-rate path", () => {
+describe("the compressor's control-rate path (reference: RmsDetector → gainReductionDb → GainSmoother composed at the control rate; the deviation bounds against the per-frame path are our design targets)", () => {
   function steppedNoise(frames: number, seed: number, scale: number): Float64Array {
     const x = whiteNoise(frames, seed);
     for (let i = 0; i < frames; i++) x[i] *= scale * 10 ** (-(((i / 4800) | 0) % 8) * 5 / 20) * 0.56;

@@ -57,7 +57,7 @@ function float64Ramp(name: string, seconds: number, extensible: boolean) {
     buf.writeUInt16LE(22, 36); // cbSize
     buf.writeUInt16LE(64, 38); // valid bits
     buf.writeUInt32LE(3, 40); // channel mask: front left and right
-    // KSDATAFORMAT_SUBTYPE_IEEE_FLOAT: 00000003-0000-0010-8000-00aa00389b71
+    // KSDATAFORMAT_SUBTYPE_IEEE_FLOAT: 00000003-0000-0010-8000-00aa00389b71 (Microsoft's WAVEFORMATEXTENSIBLE, from memory)
     Buffer.from("0300000000001000800000aa00389b71", "hex").copy(buf, 44);
   }
   buf.write("data", 12 + 8 + body, "latin1");
