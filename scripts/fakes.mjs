@@ -4,7 +4,7 @@
 // line with "ready" once it does.
 import { existsSync } from "node:fs";
 import path from "node:path";
-import { root, log, spawnService, waitForPort, portFree } from "./lib.mjs";
+import { root, portOffset, log, spawnService, waitForPort, portFree } from "./lib.mjs";
 
 // name → script, port variable, ports for dev and test, environment given to the app
 const FAKES = [
@@ -20,7 +20,7 @@ export async function startFakes(children, mode, { publicUrl } = {}) {
   const env = {};
   for (const fake of FAKES) {
     if (!existsSync(path.join(root, fake.script))) continue;
-    const port = fake.ports[mode];
+    const port = fake.ports[mode] + portOffset;
     const fakeEnv = fake.env(port, mode);
     if (await portFree(port)) {
       const child = spawnService("npx", ["tsx", fake.script], {

@@ -8,6 +8,13 @@ import path from "node:path";
 import os from "node:os";
 
 export const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), "..");
+/**
+ * TIDEMARK_PORT_OFFSET shifts every default port (our PostgreSQL, the fakes,
+ * the test and start servers), so two checkouts on one machine can run
+ * their services side by side.
+ */
+export const portOffset = Number(process.env.TIDEMARK_PORT_OFFSET ?? 0);
+
 export const isRoot = typeof process.getuid === "function" && process.getuid() === 0;
 
 export function log(message) {

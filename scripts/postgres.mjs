@@ -2,9 +2,9 @@
 // listening on 127.0.0.1 only, on a port of its own. DATABASE_URL skips all this.
 import path from "node:path";
 import { writeFileSync, appendFileSync } from "node:fs";
-import { postgresBinDir, clusterDir, asPostgres, isRoot, log, fail, mkdirSync, chownSync, existsSync, waitForPort } from "./lib.mjs";
+import { portOffset, postgresBinDir, clusterDir, asPostgres, isRoot, log, fail, mkdirSync, chownSync, existsSync, waitForPort } from "./lib.mjs";
 
-export const PG_PORT = Number(process.env.TIDEMARK_PG_PORT ?? 54329);
+export const PG_PORT = Number(process.env.TIDEMARK_PG_PORT ?? 54329 + portOffset);
 
 function pgUid() {
   const r = asPostgres("id", ["-u"]);

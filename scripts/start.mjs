@@ -5,11 +5,11 @@
 import { existsSync, readFileSync, writeFileSync, mkdirSync } from "node:fs";
 import { randomBytes } from "node:crypto";
 import path from "node:path";
-import { root, log, fail, run, ensureNodeModules, portFree, spawnService } from "./lib.mjs";
+import { root, portOffset, log, fail, run, ensureNodeModules, portFree, spawnService } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
-const port = Number(process.env.PORT ?? 3000);
+const port = Number(process.env.PORT ?? 3000 + portOffset);
 const dev = process.argv.includes("--dev");
 
 if (!(await portFree(port))) fail(`port ${port} is already in use: stop what runs there or set PORT=…`);

@@ -6,13 +6,13 @@
 //   --no-e2e     skip the browser tests
 import { rmSync } from "node:fs";
 import { spawnSync } from "node:child_process";
-import { root, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
+import { root, portOffset, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
 const servicesOnly = process.argv.includes("--services");
 const e2e = !process.argv.includes("--no-e2e") && !servicesOnly;
-const webPort = Number(process.env.TEST_PORT ?? 3100);
+const webPort = Number(process.env.TEST_PORT ?? 3100 + portOffset);
 
 ensureNodeModules();
 const missing = [];
