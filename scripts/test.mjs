@@ -4,6 +4,8 @@
 // Playwright against a production build in Debian's chromium.
 //   --services   prepare, print the environment, and keep the services up (for working on tests)
 //   --no-e2e     skip the browser tests
+//   --unit=A,B   vitest on these paths only (--unit= skips vitest)
+//   --e2e=A,B    Playwright on these specs only
 import { rmSync } from "node:fs";
 import { spawnSync } from "node:child_process";
 import { root, portOffset, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
@@ -12,6 +14,12 @@ import { startFakes } from "./fakes.mjs";
 
 const servicesOnly = process.argv.includes("--services");
 const e2e = !process.argv.includes("--no-e2e") && !servicesOnly;
+const listArg = (name) => {
+  const arg = process.argv.find((a) => a.startsWith(`--${name}=`));
+  return arg === undefined ? null : arg.slice(name.length + 3).split(",").filter(Boolean);
+};
+const unitOnly = listArg("unit");
+const e2eOnly = listArg("e2e");
 const webPort = Number(process.env.TEST_PORT ?? 3100 + portOffset);
 
 ensureNodeModules();
@@ -60,7 +68,7 @@ const step = (name, cmd, args, extraEnv = {}) => {
   }
 };
 
-step("vitest", "npx", ["vitest", "run"]);
+if (unitOnly === null || unitOnly.length > 0) step("vitest", "npx", ["vitest", "run", ...(unitOnly ?? [])]);
 
 if (e2e && status === 0) {
   step("build", "npx", ["react-router", "build"]);
@@ -74,7 +82,7 @@ if (e2e && status === 0) {
       children.push(spawnService("npx", ["tsx", "app/jobs/worker.server.ts"], { env: webEnv, stdio: "inherit" }));
     }
     await waitForPort(webPort, 60_000);
-    step("playwright", "npx", ["playwright", "test"], { BASE_URL: `http://127.0.0.1:${webPort}` });
+    step("playwright", "npx", ["playwright", "test", ...(e2eOnly ?? [])], { BASE_URL: `http://127.0.0.1:${webPort}` });
   }
 }
 
