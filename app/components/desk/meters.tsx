@@ -57,9 +57,9 @@ export function OutputMeters({ store, ceilingDbtp }: { store: MeterStore; ceilin
 export function MatchOffset({ store }: { store: MeterStore }) {
   const m = useMeters(store);
   return (
-    <output className="num text-sm" data-testid="match-offset" aria-label="Match offset">
+    <span className="num text-sm" data-testid="match-offset" aria-label="Match offset">
       {fmtDb(m?.matchOffsetDb ?? 0, true)}
-    </output>
+    </span>
   );
 }
 
@@ -67,8 +67,8 @@ export function Position({ store }: { store: MeterStore }) {
   const m = useMeters(store);
   const s = m?.positionS ?? null;
   return (
-    <output className="num text-sm text-ink-soft" aria-label="Position" data-testid="position">
+    <span className="num text-sm text-ink-soft" aria-label="Position" data-testid="position">
       {s === null ? "–:––.–" : `${Math.floor(s / 60)}:${(s % 60).toFixed(1).padStart(4, "0")}`}
-    </output>
+    </span>
   );
 }

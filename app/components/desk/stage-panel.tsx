@@ -144,9 +144,9 @@ export function GrReading({ store, stageIndex, trace, label, testId }: { store: 
         <span className="absolute inset-y-0 right-0 bg-accent" style={{ width: `${Math.min(100, (gr / 12) * 100)}%` }} />
         <span className="absolute inset-y-0 w-px bg-danger" style={{ right: `${Math.min(100, (peak / 12) * 100)}%` }} />
       </span>
-      <output className="num w-14 text-right" aria-label={`${label} gain reduction`} data-testid={testId}>
+      <span className="num w-14 text-right" aria-label={`${label} gain reduction`} data-testid={testId}>
         {fmtGr(meters ? gr : 0)}
-      </output>
+      </span>
       <span className="num text-ink-faint" aria-label={`${label} gain reduction peak`}>
         ↓{fmtGr(peak)}
       </span>
