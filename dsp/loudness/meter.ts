@@ -31,6 +31,8 @@ export interface MeterOptions {
   truePeak?: boolean;
   /** Step of the short-term curve in ms; must divide 100 ms into whole frames. Default 10. */
   gridMs?: number;
+  /** Keep the short-term curve and the gating blocks for result(); default true. Live meters (the listening desk) that run for hours turn it off and read momentaryLufs / shortTermLufs. */
+  history?: boolean;
 }
 
 const LOUDNESS_OFFSET_DB = -0.691;
@@ -118,6 +120,9 @@ export class LoudnessMeter {
   private readonly momentaryBlocks = new NumberList();
   private readonly shortTermBlocks = new NumberList();
   private readonly shortTermCurve: number[] = [];
+  private readonly history: boolean;
+  private lastMomentaryPower = 0;
+  private lastShortTermPower = 0;
 
   constructor(sampleRate: number, channels: number, options: MeterOptions = {}) {
     if (!(channels === 1 || channels === 2)) throw new RangeError(`the meter takes 1 or 2 channels, got ${channels}`);
@@ -142,6 +147,22 @@ export class LoudnessMeter {
     const wantTruePeak = options.truePeak ?? true;
     this.truePeak = wantTruePeak ? new TruePeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
     this.tpChunk = [];
+    this.history = options.history ?? true;
+  }
+
+  /** Momentary loudness (400 ms) at the last completed grid step; -Infinity when silent. */
+  get momentaryLufs(): number {
+    return powerToLufs(this.lastMomentaryPower);
+  }
+
+  /** Short-term loudness (3 s) at the last completed grid step; -Infinity when silent. */
+  get shortTermLufs(): number {
+    return powerToLufs(this.lastShortTermPower);
+  }
+
+  /** Grid steps completed since the start (or the last reset). */
+  get steps(): number {
+    return this.stepCount;
   }
 
   reset(): void {
@@ -154,6 +175,7 @@ export class LoudnessMeter {
     this.samplePeak = 0;
     this.sumLL = this.sumRR = this.sumLR = 0;
     this.maxMomentaryPower = this.maxShortTermPower = 0;
+    this.lastMomentaryPower = this.lastShortTermPower = 0;
     this.momentaryBlocks.clear();
     this.shortTermBlocks.clear();
     this.shortTermCurve.length = 0;
@@ -292,6 +314,9 @@ export class LoudnessMeter {
     const shortTermPower = shortSum / (ringLen * this.gridFrames);
     if (momentaryPower > this.maxMomentaryPower) this.maxMomentaryPower = momentaryPower;
     if (shortTermPower > this.maxShortTermPower) this.maxShortTermPower = shortTermPower;
+    this.lastMomentaryPower = momentaryPower;
+    this.lastShortTermPower = shortTermPower;
+    if (!this.history) return;
     this.shortTermCurve.push(powerToLufs(shortTermPower));
     if (this.stepCount % this.stepsPer100Ms === 0) {
       const tenths = this.stepCount / this.stepsPer100Ms;

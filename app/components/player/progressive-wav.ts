@@ -140,9 +140,9 @@ export type Io = {
   signal?: AbortSignal;
 };
 
-type Probe = { url: string; layout: WavLayout; totalBytes: number; whole: Uint8Array | null };
+export type Probe = { url: string; layout: WavLayout; totalBytes: number; whole: Uint8Array | null };
 
-async function probe(url: string, io: Io): Promise<Probe> {
+export async function probe(url: string, io: Io): Promise<Probe> {
   const response = await io.fetch(url, { headers: { Range: `bytes=0-${HEADER_PROBE_BYTES - 1}` }, credentials: "same-origin", signal: io.signal });
   if (!response.ok) throw new Error(`could not load the audio (${response.status})`);
   const bytes = new Uint8Array(await response.arrayBuffer());
@@ -154,7 +154,7 @@ async function probe(url: string, io: Io): Promise<Probe> {
   return { url, layout, totalBytes: total, whole: response.status === 206 && bytes.length < total ? null : bytes };
 }
 
-async function fetchFrames(p: Probe, startFrame: number, endFrame: number, io: Io): Promise<Uint8Array> {
+export async function fetchFrames(p: Probe, startFrame: number, endFrame: number, io: Io): Promise<Uint8Array> {
   const start = p.layout.dataOffset + startFrame * p.layout.blockAlign;
   const end = p.layout.dataOffset + endFrame * p.layout.blockAlign; // exclusive
   if (end <= start) return new Uint8Array(0);
