@@ -306,6 +306,10 @@ class StreamingWavReader implements WavReader {
   private decode(channels: Float64Array[], offset: number, n: number): void {
     const nch = this.format.channels;
     const { bitDepth, sampleFormat } = this.format;
+    // The first non-finite sample in frame order (channels are decoded one after the other).
+    let badFrame = n;
+    let badChannel = 0;
+    let badValue = 0;
     for (let ch = 0; ch < nch; ch++) {
       const out = channels[ch];
       if (sampleFormat === "float") {
@@ -313,7 +317,12 @@ class StreamingWavReader implements WavReader {
         for (let i = 0, j = ch; i < n; i++, j += nch) {
           const v = src[j];
           if (v - v !== 0) {
-            throw new WavFormatError("non-finite", `sample ${String(v)} (not a finite number) at frame ${this.framesRead + i}, channel ${ch + 1}`);
+            if (i < badFrame) {
+              badFrame = i;
+              badChannel = ch;
+              badValue = v;
+            }
+            break;
           }
           out[offset + i] = v;
         }
@@ -332,6 +341,9 @@ class StreamingWavReader implements WavReader {
         for (let i = 0, j = ch; i < n; i++, j += nch) out[offset + i] = src[j] * (1 / 2147483648);
       }
     }
+    if (badFrame < n) {
+      throw new WavFormatError("non-finite", `sample ${String(badValue)} (not a finite number) at frame ${this.framesRead + badFrame}, channel ${badChannel + 1}`);
+    }
   }
 
   async close(): Promise<void> {
@@ -346,5 +358,22 @@ export async function openWav(path: string): Promise<WavReader> {
   } catch (err) {
     await fh.close();
     throw err;
+  }
+}
+
+/**
+ * Reads every sample of a float file once, so a file holding NaN or an
+ * infinity is refused where it arrives (the reader's "non-finite" error names
+ * the first bad frame and channel). Integer files cannot hold such samples.
+ */
+export async function checkWavSamples(path: string): Promise<void> {
+  const reader = await openWav(path);
+  try {
+    if (reader.format.sampleFormat !== "float") return;
+    const block = 65536;
+    const buffers = Array.from({ length: reader.format.channels }, () => new Float64Array(block));
+    while ((await reader.read(buffers, block)) > 0);
+  } finally {
+    await reader.close();
   }
 }
