@@ -11,7 +11,7 @@ import { pipeline } from "node:stream/promises";
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
-import { probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
+import { checkWavSamples, probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
 import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
 import { toJsonValue } from "../jobs/json.ts";
 
@@ -239,6 +239,8 @@ export async function addUploadedMix(input: {
     let format;
     try {
       format = await probeWav(spooled);
+      // A float mix of NaN or infinite samples would fail every analysis: refused here, naming the first.
+      await checkWavSamples(spooled);
     } catch (error) {
       if (error instanceof WavFormatError) throw new MixUploadError(error.code, error.message);
       throw error;

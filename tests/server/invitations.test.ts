@@ -3,7 +3,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import bcrypt from "bcryptjs";
 import { db } from "../../app/lib/db.server.ts";
-import { sessionStorage } from "../../app/lib/session.server.ts";
+import { readSession } from "../../app/lib/session.server.ts";
 import * as team from "../../app/routes/team.tsx";
 import * as invitation from "../../app/routes/invitation.tsx";
 import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture } from "./fixtures.ts";
@@ -58,9 +58,9 @@ describe("invitations", () => {
     expect(accepted).toBeInstanceOf(Response);
     const response = accepted as Response;
     expect(response.headers.get("Location")).toBe("/");
-    const session = await sessionStorage.getSession(response.headers.get("Set-Cookie"));
+    const session = await readSession((response.headers.get("Set-Cookie") ?? "").split(";")[0]);
     const user = await db("users").first("id", "name", "password_hash").whereRaw("lower(email) = ?", [email]);
-    expect(session.get("userId")).toBe(user.id);
+    expect(session?.userId).toBe(user.id);
     expect(user.name).toBe("Nova Client");
     expect(await bcrypt.compare("long-enough-1", user.password_hash)).toBe(true);
     expect(bcrypt.getRounds(user.password_hash)).toBeGreaterThanOrEqual(10);
