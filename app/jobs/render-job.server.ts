@@ -89,6 +89,7 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
         input_analysis: JSON.stringify(result.input),
         output_analysis: JSON.stringify(result.output),
         traces_key: tracesKey,
+        peaks: result.peaks ? JSON.stringify(result.peaks) : null,
         // A preview without a region keeps the loudest stretch it found, so a re-render hears the same.
         ...(row.kind === "preview" && row.region_start_s === null && result.region
           ? { region_start_s: result.region.startS, region_end_s: result.region.endS }

@@ -275,6 +275,7 @@ export type ReviewableRender = {
   chainRevisionId: string;
   revision: number;
   params: unknown;
+  targetLufs: number | null;
   integratedLufs: number | null;
   finishedAt: Date;
   sentForReview: boolean;
@@ -310,6 +311,7 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
       "cr.id as chain_revision_id",
       "cr.revision",
       "cr.params",
+      "rd.target_lufs",
       "rd.output_analysis",
       "rd.finished_at",
       "rd.output_key",
@@ -329,6 +331,7 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
     chainRevisionId: row.chain_revision_id,
     revision: row.revision,
     params: row.params,
+    targetLufs: row.target_lufs,
     integratedLufs: finiteOrNull(row.output_analysis?.integratedLufs),
     finishedAt: row.finished_at,
     sentForReview: row.sent_for_review,

@@ -5,6 +5,7 @@ import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { getTrack } from "../models/track.server.ts";
+import { roomPath } from "../lib/review/room-path.ts";
 import { listMixVersions } from "../models/mix.server.ts";
 import { listTrackRenders } from "../lib/render-views.server.ts";
 import { formatBytes, receiveMixUpload, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
@@ -19,6 +20,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
+  // A client hears and reviews in the review room; this page (mixes, renders, chains) is the studio's.
+  if (!isStaff(user.role)) throw redirect(roomPath(release.id, track.id));
   const [mixes, renders] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user)]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
