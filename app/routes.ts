@@ -37,6 +37,7 @@ export default [
       route(":releaseId/edit", "routes/release-edit.tsx"),
       route(":releaseId/delivery", "routes/release-delivery.tsx"),
       route(":releaseId/loudness-report", "routes/loudness-report.tsx"),
+      route(":releaseId/room", "routes/review-room.tsx"),
       route(":releaseId/tracks/new", "routes/track-new.tsx"),
       route(":releaseId/tracks/:trackId", "routes/track.tsx"),
       route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),

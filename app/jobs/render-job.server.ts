@@ -10,7 +10,7 @@ import type PgBoss from "pg-boss";
 import { db } from "../lib/db.server.ts";
 import type { LocalFile } from "../lib/storage/storage.server.ts";
 import type { RenderRow } from "../models/render.server.ts";
-import { renderJobData } from "./queue.server.ts";
+import { expireSecondsFor, renderJobData } from "./queue.server.ts";
 import { watchRender } from "./render-watch.server.ts";
 import { progressMessageSchema, renderResultSchema, type RenderTask } from "./task-messages.ts";
 import { readableError, type AbortReason, type WorkerContext } from "./worker-context.server.ts";
@@ -89,6 +89,7 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
         input_analysis: JSON.stringify(result.input),
         output_analysis: JSON.stringify(result.output),
         traces_key: tracesKey,
+        peaks: result.peaks ? JSON.stringify(result.peaks) : null,
         // A preview without a region keeps the loudest stretch it found, so a re-render hears the same.
         ...(row.kind === "preview" && row.region_start_s === null && result.region
           ? { region_start_s: result.region.startS, region_end_s: result.region.endS }
@@ -102,6 +103,7 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
       },
       ["id"],
     );
+    if (done.length > 0 && row.kind === "print") await queueDeliveriesWaitingOn(renderId, ctx);
     if (done.length === 0) {
       // Cancelled while storing. A newer attempt would write the same keys, so only a cancel removes them.
       const now = await db("renders").where({ id: renderId }).first<{ state: string } | undefined>("state");
@@ -125,6 +127,9 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
       const message = readableError(error);
       if (lastTry) {
         await current().update({ state: "failed", error: message, finished_at: db.fn.now() });
+        await db("deliveries")
+          .where({ source_render_id: renderId, state: "queued" })
+          .update({ state: "failed", error: `The print these files are made from failed: ${message}` });
       } else {
         await current().update({ state: "queued", progress: 0, error: `Attempt ${attempt} failed (${message}); trying again.` });
       }
@@ -134,5 +139,22 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
     untrack();
     await input?.release();
     if (folder) await rm(folder, { recursive: true, force: true });
+  }
+}
+
+/**
+ * Deliveries made while their print was still to be rendered (an approved
+ * recipe without a print, see queueReleaseDeliveries) wait for it: queue them now.
+ */
+async function queueDeliveriesWaitingOn(renderId: string, ctx: WorkerContext): Promise<void> {
+  const waiting = await db("deliveries").where({ source_render_id: renderId, state: "queued" }).select<{ id: string }[]>("id");
+  const mix = await db("renders as rd").join("mixes as m", "m.id", "rd.mix_id").where("rd.id", renderId).first<{ frames: string; sample_rate_hz: number }>("m.frames", "m.sample_rate_hz");
+  const audioSeconds = mix ? Number(mix.frames) / mix.sample_rate_hz : 600;
+  for (const d of waiting) {
+    await ctx.boss.send(ctx.settings.deliverQueue, { deliveryId: d.id }, {
+      retryLimit: ctx.settings.retryLimit,
+      retryDelay: ctx.settings.retryDelaySeconds,
+      expireInSeconds: ctx.settings.renderExpireSeconds ?? expireSecondsFor(audioSeconds, 2),
+    });
   }
 }

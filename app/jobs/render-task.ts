@@ -8,6 +8,7 @@ import { analyzeFile } from "../../dsp/analysis.ts";
 import { formatChainErrors, parseChain } from "../../dsp/chain/schema.ts";
 import { renderFile } from "../../dsp/render/render-file.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
+import { wavPeaks } from "../../dsp/render/waveform-peaks.ts";
 import { toJsonValue } from "./json.ts";
 import { writeFile } from "node:fs/promises";
 import { taskSchema, type AnalyzeResult, type ProgressMessage, type RenderResult } from "./task-messages.ts";
@@ -44,7 +45,10 @@ export default async function runTask(raw: unknown): Promise<AnalyzeResult | Ren
     });
     await writeFile(task.tracesPath, JSON.stringify(toJsonValue(result.traces)));
     const format = await probeWav(task.outputPath);
+    // Once, here in the thread: players draw the waveform from these without decoding the file.
+    const peaks = await wavPeaks(task.outputPath);
     return {
+      peaks,
       kind: "render",
       input: toJsonValue(result.input) as Record<string, unknown>,
       output: toJsonValue(result.output) as Record<string, unknown>,

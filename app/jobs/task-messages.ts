@@ -42,6 +42,10 @@ export const renderResultSchema = z.object({
   input: analysis,
   output: analysis,
   passes: z.number().int().min(1),
+  /** Waveform peaks of the output (dsp/render/waveform-peaks.ts); absent from an older worker. */
+  peaks: z
+    .object({ columns: z.number().int().positive(), frames: z.number().int().nonnegative(), sampleRate: z.number().int().positive(), min: z.array(z.number().int()), max: z.array(z.number().int()) })
+    .optional(),
   /** The region rendered: the one asked for, or the loudest stretch a preview found. */
   region: z.object({ startS: z.number(), endS: z.number() }).nullable(),
   format: z.object({

@@ -7,7 +7,8 @@
 // chain parameters that differ; comments pinned to times, and the review
 // step: send A for review (staff), approve it or ask for changes (client).
 import { useState } from "react";
-import { Form, useNavigation, useSearchParams } from "react-router";
+import { Form, redirect, useNavigation, useSearchParams } from "react-router";
+import { roomPath } from "../lib/review/room-path.ts";
 import type { Route } from "./+types/compare";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
@@ -38,6 +39,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
   const staff = isStaff(user.role);
+  // A client listens in the review room, which always plays; comparing sources is the studio's page.
+  if (!staff) throw redirect(roomPath(release.id, track.id, new URL(request.url).searchParams.get("a")));
   const sources = await listCompareSources(user, { id: track.id, releaseId: release.id });
   const url = new URL(request.url);
   const { a, b } = choosePair(sources, { a: url.searchParams.get("a"), b: url.searchParams.get("b") });

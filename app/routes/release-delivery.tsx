@@ -63,21 +63,21 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     formats,
     ownFormats: own,
     deliveries: rows,
-    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.sourceRenderId !== null, reason: p.reason })),
+    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.reason === null, printPending: p.printRecipe !== null, reason: p.reason })),
   };
 }
 
-type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number };
-const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, ...r }, { status });
+type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number; printsQueued: number };
+const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, printsQueued: 0, ...r }, { status });
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const form = await request.formData();
   const intent = String(form.get("intent") ?? "");
   if (intent === "make") {
-    const { deliveryIds, alreadyMade, leftOut } = await queueReleaseDeliveries(release.id);
+    const { deliveryIds, alreadyMade, leftOut, waitingOnPrint, printsQueued } = await queueReleaseDeliveries(release.id, undefined, { createdBy: user.id });
     for (const id of deliveryIds) await enqueueDelivery(id, ASSUMED_AUDIO_SECONDS);
-    return reply({ intent, queued: deliveryIds.length, alreadyMade, leftOut: leftOut.length });
+    return reply({ intent, queued: deliveryIds.length + waitingOnPrint.length, alreadyMade, leftOut: leftOut.length, printsQueued });
   }
   if (intent === "delete-format") {
     if (form.get("confirm") !== "yes") return reply({ intent, errors: { form: "Confirm the deletion." } }, 400);
@@ -222,7 +222,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           Tracks
         </h2>
         <p className="mb-3 text-sm text-ink-soft">
-          Only approved tracks are delivered, from the print the client approved. {tracks.length - leftOut.length} of {tracks.length} {tracks.length === 1 ? "track is" : "tracks are"} ready.
+          Only approved tracks are delivered, from a print of exactly what the client approved (made automatically when missing). {tracks.length - leftOut.length} of {tracks.length} {tracks.length === 1 ? "track is" : "tracks are"} ready.
         </p>
         {leftOut.length > 0 && (
           <div className="card p-5">
@@ -252,7 +252,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
         {made && (
           <FormNotice
             tone="info"
-            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.alreadyMade > 0 ? ` ${made.alreadyMade} already made (or on the way) from the same print were not made again.` : ""}${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
+            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.alreadyMade > 0 ? ` ${made.alreadyMade} already made (or on the way) from the same print were not made again.` : ""}${made.printsQueued > 0 ? ` ${made.printsQueued} approved ${made.printsQueued === 1 ? "track had" : "tracks had"} no print yet: rendering it now; its files follow when it is done.` : ""}${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
           />
         )}
         {deliveries.length === 0 ? (

@@ -130,7 +130,7 @@ export default function Release({ loaderData }: Route.ComponentProps) {
                 </p>
                 {item.message && <p className="mt-1 whitespace-pre-line">{item.message}</p>}
                 <p className="mt-2">
-                  <Link to={`/releases/${release.id}/tracks/${item.trackId}/compare?a=${item.renderId}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                  <Link to={`/releases/${release.id}/room?track=${item.trackId}&render=${item.renderId}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
                     Listen and review
                   </Link>
                 </p>

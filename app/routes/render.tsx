@@ -2,7 +2,8 @@
 // queued or running), then input beside output analyses, the gain-reduction
 // traces, a player and the downloads.
 import { useEffect } from "react";
-import { Form, Link, useFetcher, useRevalidator } from "react-router";
+import { Form, Link, redirect, useFetcher, useRevalidator } from "react-router";
+import { roomPath } from "../lib/review/room-path.ts";
 import type { Route } from "./+types/render";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { requireTrackRender } from "../lib/render-access.server.ts";
@@ -22,6 +23,8 @@ import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release, track, render, mix } = await requireTrackRender(request, params);
+  // A client hears a sent render in the review room: no mix names, chains or gain-reduction charts.
+  if (!isStaff(user.role)) throw redirect(roomPath(release.id, track.id, render.id));
   const [chain, traces, downloadOpen] = await Promise.all([
     describeRevision(render.chainRevisionId),
     render.state === "done" ? readChartTraces(render.tracesKey, render.region?.startS ?? 0) : null,

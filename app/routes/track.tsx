@@ -5,6 +5,7 @@ import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { getTrack } from "../models/track.server.ts";
+import { roomPath } from "../lib/review/room-path.ts";
 import { listMixVersions } from "../models/mix.server.ts";
 import { listTrackRenders } from "../lib/render-views.server.ts";
 import { listTrackChainsWithRevision } from "../lib/chain-access.server.ts";
@@ -20,8 +21,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  const staff = isStaff(user.role);
-  const [mixes, renders, chains] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user), staff ? listTrackChainsWithRevision(track.id) : []]);
+  // A client hears and reviews in the review room; this page (mixes, renders, chains) is the studio's.
+  if (!isStaff(user.role)) throw redirect(roomPath(release.id, track.id));
+  const staff = true;
+  const [mixes, renders, chains] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user), listTrackChainsWithRevision(track.id)]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
     track,

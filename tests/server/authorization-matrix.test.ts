@@ -50,6 +50,7 @@ import * as downloadRender from "../../app/routes/download.render.ts";
 import * as renderAudio from "../../app/routes/render-audio.tsx";
 import * as compare from "../../app/routes/compare.tsx";
 import * as review from "../../app/routes/review.tsx";
+import * as reviewRoom from "../../app/routes/review-room.tsx";
 import * as paymentsWebhook from "../../app/routes/api.payments.webhook.ts";
 import * as releasePackage from "../../app/routes/release-package.ts";
 import * as loudnessReport from "../../app/routes/release-loudness-report.ts";
@@ -199,8 +200,10 @@ const cases: Case[] = [
   { route: "…/tracks/:trackId/compare (not sent)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
   { route: "…/tracks/:trackId/compare (sent for review)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
   { route: "…/tracks/:trackId/review", file: "routes/review.tsx", kind: "loader", handler: review.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, expected: releaseViewers },
-  { route: "…/tracks/:trackId/review (not sent)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
-  { route: "…/tracks/:trackId/review (sent for review)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
+  // The review room: every viewer of the release; its steps act only on what the viewer may hear.
+  { route: "/releases/:releaseId/room", file: "routes/review-room.tsx", kind: "loader", handler: reviewRoom.loader as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, expected: releaseViewers },
+  { route: "/releases/:releaseId/room (not sent)", file: "routes/review-room.tsx", kind: "action", handler: reviewRoom.action as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
+  { route: "/releases/:releaseId/room (sent for review)", file: "routes/review-room.tsx", kind: "action", handler: reviewRoom.action as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
   // A public endpoint: the session plays no part, the signature is the credential.
   // "allowed" here means an answer that is neither a redirect nor a 404 — and
   // `answers(400)` makes sure it is the 400 for a missing signature, for everyone.

@@ -8,7 +8,7 @@ import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { action, loader } from "../../app/routes/compare.tsx";
 import { loader as audioLoader } from "../../app/routes/render-audio.tsx";
-import { loader as reviewLoader } from "../../app/routes/review.tsx";
+import { loader as reviewLoader } from "../../app/routes/review-room.tsx";
 import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 
 let f: Fixture;
@@ -238,10 +238,10 @@ describe("compare actions: ids and who may act", () => {
     // Once the preview is sent too, its thread is the client's as well, and the review page links the A/B of the two sent versions.
     expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.preview }))).toBe("allowed");
     expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: hidden.id }))).toBe("allowed");
-    const reviewPath = `/releases/${f.releaseId}/tracks/${f.trackId}/review?render=${renders.preview}`;
-    const review = (await reviewLoader({ request: requestAs(f, "client", reviewPath), params: routeParams(), context: {} } as never)) as Awaited<ReturnType<typeof reviewLoader>>;
-    expect(review.render?.id).toBe(renders.preview);
-    expect(review.earlierSentId).toBe(renders.print);
+    const roomPath = `/releases/${f.releaseId}/room?track=${f.trackId}&render=${renders.preview}`;
+    const room = (await reviewLoader({ request: requestAs(f, "client", roomPath), params: { releaseId: f.releaseId }, context: {} } as never)) as Awaited<ReturnType<typeof reviewLoader>>;
+    expect(room.selected?.current.renderId).toBe(renders.preview);
+    expect(room.selected?.versions.map((v) => v.renderId).sort()).toEqual([renders.preview, renders.print].sort());
   });
 });
 
