@@ -54,9 +54,12 @@ export function buildChain(chain: Chain, sampleRate: number, channels: number, m
         gr = r;
         break;
       }
-      case "tape":
-        processor = new TapeStage(sampleRate, channels, stage, maxBlockFrames);
+      case "tape": {
+        const t = new TapeStage(sampleRate, channels, stage, maxBlockFrames);
+        processor = t;
+        gr = t;
         break;
+      }
       case "compress": {
         const c = new Compressor(sampleRate, channels, stage, maxBlockFrames);
         processor = c;

@@ -73,7 +73,7 @@ describe("resonance and tape in the chain schema", () => {
 });
 
 describe("resonance and tape in buildChain", () => {
-  it("builds both, the resonance stage as a gain-reduction source, and sums their latency", () => {
+  it("builds both as gain-reduction sources (the resonance stage's deepest cut, the tape curve's compression), and sums their latency", () => {
     const r = parseChain({ stages: [{ type: "resonance" }, { type: "tape", oversample: 2 }, { type: "tape", bypass: true }] });
     if (!r.ok) throw new Error("chain");
     const built = buildChain(r.chain, 48000, 2, 480);
@@ -81,7 +81,7 @@ describe("resonance and tape in buildChain", () => {
     expect(built.stages[0].processor).toBeInstanceOf(ResonanceTamer);
     expect(built.stages[0].gainReduction?.traceNames).toEqual(["cut"]);
     expect(built.stages[1].processor).toBeInstanceOf(TapeStage);
-    expect(built.stages[1].gainReduction).toBeNull();
+    expect(built.stages[1].gainReduction?.traceNames).toEqual(["curve"]);
     // 2048 frames of STFT (42.7 ms) + the 2× round trip.
     expect(built.latencyFrames).toBe(2048 + roundTripLatency(2));
   });

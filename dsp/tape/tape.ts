@@ -14,7 +14,7 @@
 // desk's drawing and for the tests.
 
 import { designBiquad, type BiquadCoeffs } from "../filters/biquad-design.ts";
-import type { Planar, Processor } from "../processor.ts";
+import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import { softClip } from "../saturate/soft-clip.ts";
 import { dbToLinear } from "../units.ts";
 import { TapeKernel, type TapeKernelParams } from "./tape-kernels.ts";
@@ -121,10 +121,13 @@ function clampBlend(blend: number): number {
   return Math.min(1, Math.max(0, blend));
 }
 
-export class TapeStage implements Processor {
+export class TapeStage implements Processor, GainReductionSource {
   readonly latencyFrames: number;
+  /** How hard the curve is hit: its compression (dB) at the loudest sample of each step, before emphasis. */
+  readonly traceNames = ["curve"] as const;
   private readonly kernel: TapeKernel;
   private readonly params: TapeKernelParams;
+  private peak = 0;
 
   constructor(sampleRate: number, channels: number, settings: TapeSettings, maxBlockFrames: number) {
     void maxBlockFrames; // the fused kernels need no buffers
@@ -147,9 +150,25 @@ export class TapeStage implements Processor {
 
   reset(): void {
     this.kernel.reset();
+    this.peak = 0;
   }
 
   process(channels: Planar, frames: number): void {
+    let peak = this.peak;
+    for (let c = 0; c < channels.length; c++) {
+      const x = channels[c];
+      for (let i = 0; i < frames; i++) {
+        const a = Math.abs(x[i]);
+        peak = a > peak ? a : peak;
+      }
+    }
+    this.peak = peak;
     this.kernel.process(channels, frames, this.params);
+  }
+
+  takeGainReductionDb(out: Float64Array): void {
+    const u = this.params.drive * this.peak;
+    out[0] = u > 1e-9 ? 20 * Math.log10(u / softClip(u)) : 0;
+    this.peak = 0;
   }
 }

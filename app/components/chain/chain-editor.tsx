@@ -14,8 +14,11 @@ import {
   MAX_CROSSOVERS,
   MULTIBAND_FIELDS,
   OUTPUT_FIELDS,
+  RESONANCE_FIELDS,
+  RESONANCE_LISTEN,
   SATURATE_FIELDS,
   STAGE_TYPES,
+  TAPE_FIELDS,
   TRIM_FIELDS,
   type FieldRange,
 } from "../../../dsp/chain/fields.ts";
@@ -96,6 +99,8 @@ const OPTION_LABELS: Record<string, string> = {
   tpdf: "TPDF",
   none: "None",
   "32f": "32-bit float",
+  output: "The music (output)",
+  removed: "Only what it removes",
 };
 
 function SelectInput({ ctx, path, label, value, options }: { ctx: Ctx; path: Path; label: string; value: unknown; options: readonly (string | number)[] }) {
@@ -267,6 +272,41 @@ function StageFields({ ctx, index, stage }: { ctx: Ctx; index: number; stage: Js
           <SelectInput ctx={ctx} path={[...path, "oversample"]} label="Oversampling (×)" value={stage.oversample ?? 4} options={[2, 4]} />
         </div>
       );
+    case "resonance": {
+      const f = RESONANCE_FIELDS;
+      return (
+        <div className="space-y-2">
+          <div className={grid}>
+            <NumberInput ctx={ctx} path={[...path, "lowHz"]} range={f.lowHz} value={stage.lowHz} />
+            <NumberInput ctx={ctx} path={[...path, "highHz"]} range={f.highHz} value={stage.highHz} />
+            <NumberInput ctx={ctx} path={[...path, "thresholdDb"]} range={f.thresholdDb} value={stage.thresholdDb} />
+            <NumberInput ctx={ctx} path={[...path, "maxCutDb"]} range={f.maxCutDb} value={stage.maxCutDb} />
+            <NumberInput ctx={ctx} path={[...path, "attackMs"]} range={f.attackMs} value={stage.attackMs} />
+            <NumberInput ctx={ctx} path={[...path, "releaseMs"]} range={f.releaseMs} value={stage.releaseMs} />
+            <NumberInput ctx={ctx} path={[...path, "blend"]} range={f.blend} value={stage.blend} />
+            <SelectInput ctx={ctx} path={[...path, "listen"]} label="Listen to" value={stage.listen ?? "output"} options={RESONANCE_LISTEN} />
+          </div>
+          {stage.listen === "removed" && (
+            <p className="text-sm text-ink-soft" data-testid="listen-removed-note">
+              Listening to what the stage removes is for previews and the desk; a print of this revision will be refused.
+            </p>
+          )}
+        </div>
+      );
+    }
+    case "tape": {
+      const f = TAPE_FIELDS;
+      return (
+        <div className={grid}>
+          <NumberInput ctx={ctx} path={[...path, "driveDb"]} range={f.driveDb} value={stage.driveDb} />
+          <NumberInput ctx={ctx} path={[...path, "bumpHz"]} range={f.bumpHz} value={stage.bumpHz} />
+          <NumberInput ctx={ctx} path={[...path, "bumpDb"]} range={f.bumpDb} value={stage.bumpDb} />
+          <OptionalNumber ctx={ctx} path={[...path, "rolloffHz"]} range={f.rolloffHz} value={stage.rolloffHz} off={null} offLabel="none" />
+          <NumberInput ctx={ctx} path={[...path, "blend"]} range={f.blend} value={stage.blend} />
+          <SelectInput ctx={ctx} path={[...path, "oversample"]} label="Oversampling (×)" value={stage.oversample ?? 4} options={[2, 4]} />
+        </div>
+      );
+    }
     case "compress":
       return <CompressFields ctx={ctx} path={path} values={stage} />;
     case "multiband":
