@@ -21,6 +21,7 @@
 // Latency: N frames (under 50 ms at every rate).
 
 import FFT from "fft.js";
+import { fastExp2, fastLog2 } from "../fast-math.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 
 export interface ResonanceSettings {
@@ -57,7 +58,8 @@ export function thirdOctaveCutsDb(cutDb: ArrayLike<number>, binHz: number, out: 
   }
 }
 
-const DB_PER_NEPER_POWER = 10 / Math.LN10;
+const DB_PER_OCTAVE_POWER = 10 * Math.log10(2); // 10·log10(p) = this · log2(p)
+const LOG2_PER_DB_AMPLITUDE = -Math.log2(10) / 20; // 10^(−c/20) = 2^(this · c)
 
 export class ResonanceTamer implements Processor, GainReductionSource {
   readonly latencyFrames: number;
@@ -68,6 +70,7 @@ export class ResonanceTamer implements Processor, GainReductionSource {
   private readonly pairs: number;
   private readonly fft: InstanceType<typeof FFT>;
   private readonly window: Float64Array; // √Hann, periodic
+  private readonly synthesis: Float64Array; // the window over N (the inverse transform's scale)
   private readonly fifo: Float64Array[]; // per channel, the last N inputs
   private readonly acc: Float64Array[]; // per channel, the overlap-add sum
   private readonly outQueue: Float64Array[]; // per channel, the hop of finished output
@@ -91,8 +94,8 @@ export class ResonanceTamer implements Processor, GainReductionSource {
   private readonly prefix: Float64Array;
   private readonly envDb: Float64Array;
   private readonly rawCut: Float64Array;
-  /** The cut now applied per bin (dB, ≥ 0), blend included. */
-  readonly cutDb: Float64Array;
+  private readonly smoothCut: Float64Array; // the cut per bin before blend (dB)
+  private readonly cutOut: Float64Array;
   private readonly gain: Float64Array; // the spectral gain per bin (0..N/2)
   private readonly attackCoeff: number;
   private readonly releaseCoeff: number;
@@ -113,6 +116,7 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.pairs = Math.ceil(channels / 2);
     this.fft = new FFT(n);
     this.window = Float64Array.from({ length: n }, (_, i) => Math.sin((Math.PI * i) / n));
+    this.synthesis = this.window.map((w) => w / n);
     this.fifo = Array.from({ length: channels }, () => new Float64Array(n));
     this.acc = Array.from({ length: channels }, () => new Float64Array(n));
     this.outQueue = Array.from({ length: channels }, () => new Float64Array(this.hop));
@@ -144,7 +148,8 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.prefix = new Float64Array(half + 2);
     this.envDb = new Float64Array(half + 1);
     this.rawCut = new Float64Array(half + 1);
-    this.cutDb = new Float64Array(half + 1);
+    this.smoothCut = new Float64Array(half + 1);
+    this.cutOut = new Float64Array(half + 1);
     this.gain = new Float64Array(half + 1).fill(1);
 
     const hopS = this.hop / sampleRate;
@@ -162,7 +167,7 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     for (const a of this.acc) a.fill(0);
     for (const a of this.outQueue) a.fill(0);
     this.follow.fill(0);
-    this.cutDb.fill(0);
+    this.smoothCut.fill(0);
     this.pos = this.fftSize - this.hop;
     this.frameMaxCutDb = 0;
     this.heldCutDb = 0;
@@ -202,9 +207,21 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.heldCutDb = 0;
   }
 
+  /** The cut now applied per bin (dB, ≥ 0, blend included; bin k at k·binHz). A view into the stage's memory, valid until the next call. */
+  get cutDb(): Float64Array {
+    const out = this.cutOut;
+    for (let k = 0; k < out.length; k++) out[k] = this.appliedDb(this.smoothCut[k]);
+    return out;
+  }
+
   /** The deepest cut now applied in each third-octave band (THIRD_OCTAVE_CENTRES_HZ), for the live desk. */
   bandCutsDb(out: Float64Array): void {
     thirdOctaveCutsDb(this.cutDb, this.binHz, out);
+  }
+
+  /** The applied cut (dB) of a cut c before blend: −20·log10(1 − blend·(1 − 10^(−c/20))). */
+  private appliedDb(c: number): number {
+    return c === 0 ? 0 : -20 * Math.log10(1 - this.blend * (1 - 10 ** (-c / 20)));
   }
 
   private processFrame(): void {
@@ -219,27 +236,30 @@ export class ResonanceTamer implements Processor, GainReductionSource {
       this.fft.transform(this.spectra[p], frame);
     }
     this.detect();
-    // Gains, then synthesis.
-    const g = this.gain;
+    // Gains, then synthesis. The inverse transform is the forward one of the
+    // conjugate: x = conj(FFT(conj(X)))/N; the conjugate is taken here, the
+    // 1/N and the sign of the imaginary (right) part go into the window.
+    const g = this.gain, half = n / 2;
     for (let p = 0; p < this.pairs; p++) {
       const z = this.spectra[p];
       if (this.removed) {
         z[0] = 0; z[1] = 0; z[n] = 0; z[n + 1] = 0;
-        for (let k = 1; k < n / 2; k++) {
+        for (let k = 1; k < half; k++) {
           const gk = g[k], m = n - k;
-          z[2 * k] *= gk; z[2 * k + 1] *= gk; z[2 * m] *= gk; z[2 * m + 1] *= gk;
+          z[2 * k] *= gk; z[2 * k + 1] *= -gk; z[2 * m] *= gk; z[2 * m + 1] *= -gk;
         }
       } else {
+        for (let k = 1; k < 2 * n; k += 2) z[k] = -z[k];
         for (let k = this.kLo; k <= this.kHi; k++) {
           const gk = g[k], m = n - k;
           z[2 * k] *= gk; z[2 * k + 1] *= gk; z[2 * m] *= gk; z[2 * m + 1] *= gk;
         }
       }
-      this.fft.inverseTransform(this.back, z);
-      const back = this.back;
+      this.fft.transform(this.back, z);
+      const back = this.back, ws = this.synthesis;
       const a = this.acc[2 * p], b = 2 * p + 1 < this.channels ? this.acc[2 * p + 1] : null;
-      for (let i = 0; i < n; i++) a[i] += w[i] * back[2 * i];
-      if (b) for (let i = 0; i < n; i++) b[i] += w[i] * back[2 * i + 1];
+      for (let i = 0; i < n; i++) a[i] += ws[i] * back[2 * i];
+      if (b) for (let i = 0; i < n; i++) b[i] -= ws[i] * back[2 * i + 1];
     }
     // The oldest hop is final; shift the input and the sum by a hop.
     for (let c = 0; c < this.channels; c++) {
@@ -266,7 +286,7 @@ export class ResonanceTamer implements Processor, GainReductionSource {
       const p = (power[km2] + 2 * power[km1] + 3 * power[k] + 2 * power[kp1] + power[kp2]) * (1 / 9) + 1e-30;
       const f = follow[k];
       follow[k] = p > f ? att * f + (1 - att) * p : rel * f + (1 - rel) * p;
-      level[k] = DB_PER_NEPER_POWER * Math.log(follow[k] + 1e-30);
+      level[k] = DB_PER_OCTAVE_POWER * fastLog2(follow[k] + 1e-30);
     }
     // Envelope: the mean level (dB) of the two flanks, from a sixth to half
     // an octave either side; the bin's own third of an octave is left out
@@ -285,19 +305,18 @@ export class ResonanceTamer implements Processor, GainReductionSource {
       raw[k] = excess <= 0 ? 0 : excess < maxCut ? excess : maxCut;
     }
     // Smoothed across three bins (the edges of the range taper into 0), then gains.
-    const blend = this.blend, removed = this.removed, g = this.gain, cut = this.cutDb;
+    const blend = this.blend, removed = this.removed, g = this.gain, smooth = this.smoothCut;
     let deepest = 0;
     for (let k = kLo; k <= kHi; k++) {
       const left = k > kLo ? raw[k - 1] : 0, right = k < kHi ? raw[k + 1] : 0;
       const c = 0.25 * left + 0.5 * raw[k] + 0.25 * right;
-      const applied = 1 - blend * (1 - Math.exp(-c * (Math.LN10 / 20)));
+      smooth[k] = c;
+      if (c > deepest) deepest = c;
+      const applied = 1 - blend * (1 - fastExp2(LOG2_PER_DB_AMPLITUDE * c));
       g[k] = removed ? 1 - applied : applied;
-      const appliedDb = -20 * Math.log10(applied);
-      cut[k] = appliedDb;
-      if (appliedDb > deepest) deepest = appliedDb;
     }
     this.heldCutDb = Math.max(this.heldCutDb, this.frameMaxCutDb);
-    this.frameMaxCutDb = deepest;
+    this.frameMaxCutDb = this.appliedDb(deepest);
   }
 
   private binPower(k: number, n: number): number {

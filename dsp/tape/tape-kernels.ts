@@ -5,7 +5,7 @@
 // At the high rate each sample v goes through
 //   u = drive·v
 //   e = u + k·(u − u₋₁)                 record pre-emphasis (one zero)
-//   s = softClip(e)                     the magnetic curve
+//   s = tapeCurve(e)                    the magnetic curve
 //   w = (s + k·w₋₁) / (1 + k)           the exact inverse de-emphasis (one pole)
 //   y = dryGain·v + wetGain·w
 // so at small signal w = u and the non-linear part is a plain gain; loud
@@ -15,7 +15,19 @@
 
 import { FLUSH_INTERVAL_FRAMES } from "../filters/paired-biquad.ts";
 import { flushSmall, roundTripLatency, stage1Filter, stage2Filter } from "../saturate/oversampler.ts";
-import { softClip } from "../saturate/soft-clip.ts";
+
+/**
+ * The curve: a rational sigmoid, x·(27 + x²)/(27 + 9x²) for |x| ≤ 3 and ±1
+ * beyond. It meets ±1 at ±3 with zero slope (so it is smooth there), has
+ * slope 1 at 0 and follows tanh within 0.025 (a [3/2] rational approximant
+ * of tanh; from memory), with one division and no table: cheaper than the
+ * saturator's [7/6] approximant, and this stage runs it four times a frame.
+ */
+export function tapeCurve(x: number): number {
+  const v = x > 3 ? 3 : x < -3 ? -3 : x;
+  const v2 = v * v;
+  return (v * (27 + v2)) / (27 + 9 * v2);
+}
 
 /** Per-block constants: the curve and mix, then the base-rate filters. */
 export interface TapeKernelParams {
@@ -30,8 +42,9 @@ export interface TapeKernelParams {
 }
 
 // State layout per channel: [0..17] stage 1 (Saturate2x's layout), [18..29]
-// stage 2, [30] u₋₁, [31] w₋₁, [32, 33] bump TDF-II, [34] loss.
-const STATE = 35;
+// stage 2, [30] u₋₁, [31] w₋₁, [32, 33] bump TDF-II, [34] loss; [35] the
+// largest |input| since takePeak (not flushed).
+const STATE = 36;
 const S2 = 18;
 const HALF_INTERVAL = FLUSH_INTERVAL_FRAMES / 2;
 
@@ -59,6 +72,16 @@ export class TapeKernel {
     this.halfIntervals = 0;
   }
 
+  /** The largest |input| of any channel since the last call. */
+  takePeak(): number {
+    let peak = 0;
+    for (const s of this.state) {
+      peak = Math.max(peak, s[35]);
+      s[35] = 0;
+    }
+    return peak;
+  }
+
   process(channels: Float64Array[], frames: number, p: TapeKernelParams): void {
     let start = 0;
     while (start < frames) {
@@ -76,7 +99,7 @@ export class TapeKernel {
           for (const s of this.state) flushRange(s, full ? 0 : S2);
         } else {
           this.untilFlush = FLUSH_INTERVAL_FRAMES;
-          for (const s of this.state) flushSmall(s);
+          for (const s of this.state) flushRange(s, 0);
         }
       }
       start = end;
@@ -85,8 +108,11 @@ export class TapeKernel {
 }
 
 function flushRange(s: Float64Array, from: number): void {
+  // The peak (slot 35) is a measurement, not filter state: kept.
+  const peak = s[35];
   if (from === 0) flushSmall(s);
   else flushSmall(s.subarray(from));
+  s[35] = peak;
 }
 
 function kernel2(c: Float64Array, st: Float64Array, io: Float64Array, start: number, end: number, drive: number, k: number, dryGain: number, wetGain: number, bump: Float64Array, loss: Float64Array): void {
@@ -96,9 +122,11 @@ function kernel2(c: Float64Array, st: Float64Array, io: Float64Array, start: num
   const l0 = loss[0], l1 = loss[1], la = loss[2];
   let x1 = st[0], u1 = st[1], u2 = st[2], u3 = st[3], u4 = st[4], v1 = st[5], v2 = st[6], v3 = st[7];
   let e1 = st[8], o1 = st[9], r = st[10], d1 = st[11], d2 = st[12], d3 = st[13], d4 = st[14], f1 = st[15], f2 = st[16], f3 = st[17];
-  let up = st[30], wp = st[31], z1 = st[32], z2 = st[33], zl = st[34];
+  let up = st[30], wp = st[31], z1 = st[32], z2 = st[33], zl = st[34], peak = st[35];
   for (let i = start; i < end; i++) {
     const x = io[i];
+    const ax = x < 0 ? -x : x;
+    peak = ax > peak ? ax : peak;
     const ua = p0 * (x - u1) + x1;
     const ub = p1 * (ua - u2) + u1;
     const uc = p2 * (ub - u3) + u2;
@@ -111,9 +139,9 @@ function kernel2(c: Float64Array, st: Float64Array, io: Float64Array, start: num
     v1 = va; v2 = vb; v3 = vc;
     // The curve on the two 2× samples in order (ud, then vc).
     const m0 = drive * ud;
-    const w0 = (softClip(m0 + k * (m0 - up)) + k * wp) * kInv;
+    const w0 = (tapeCurve(m0 + k * (m0 - up)) + k * wp) * kInv;
     const m1 = drive * vc;
-    const w1 = (softClip(m1 + k * (m1 - m0)) + k * w0) * kInv;
+    const w1 = (tapeCurve(m1 + k * (m1 - m0)) + k * w0) * kInv;
     up = m1; wp = w1;
     const even = dryGain * ud + wetGain * w0;
     const odd = dryGain * vc + wetGain * w1;
@@ -138,7 +166,7 @@ function kernel2(c: Float64Array, st: Float64Array, io: Float64Array, start: num
   }
   st[0] = x1; st[1] = u1; st[2] = u2; st[3] = u3; st[4] = u4; st[5] = v1; st[6] = v2; st[7] = v3;
   st[8] = e1; st[9] = o1; st[10] = r; st[11] = d1; st[12] = d2; st[13] = d3; st[14] = d4; st[15] = f1; st[16] = f2; st[17] = f3;
-  st[30] = up; st[31] = wp; st[32] = z1; st[33] = z2; st[34] = zl;
+  st[30] = up; st[31] = wp; st[32] = z1; st[33] = z2; st[34] = zl; st[35] = peak;
 }
 
 function kernel4(c: Float64Array, st: Float64Array, io: Float64Array, start: number, end: number, drive: number, k: number, dryGain: number, wetGain: number, bump: Float64Array, loss: Float64Array): void {
@@ -151,9 +179,11 @@ function kernel4(c: Float64Array, st: Float64Array, io: Float64Array, start: num
   let e1 = st[8], o1 = st[9], r = st[10], d1 = st[11], d2 = st[12], d3 = st[13], d4 = st[14], f1 = st[15], f2 = st[16], f3 = st[17];
   let w1 = st[18], g1 = st[19], g2 = st[20], h1 = st[21], h2 = st[22];
   let ze = st[23], zo = st[24], rr = st[25], k1 = st[26], k2 = st[27], n1 = st[28], n2 = st[29];
-  let up = st[30], wp = st[31], z1 = st[32], z2 = st[33], zl = st[34];
+  let up = st[30], wp = st[31], z1 = st[32], z2 = st[33], zl = st[34], peak = st[35];
   for (let i = start; i < end; i++) {
     const x = io[i];
+    const ax = x < 0 ? -x : x;
+    peak = ax > peak ? ax : peak;
     // Stage 1 up.
     const ua = p0 * (x - u1) + x1;
     const ub = p1 * (ua - u2) + u1;
@@ -178,13 +208,13 @@ function kernel4(c: Float64Array, st: Float64Array, io: Float64Array, start: num
     g1 = gc; g2 = gd; h1 = hc; h2 = hd;
     // The curve on the four 4× samples in order: gb, hb, gd, hd.
     const m0 = drive * gb;
-    const c0 = (softClip(m0 + k * (m0 - up)) + k * wp) * kInv;
+    const c0 = (tapeCurve(m0 + k * (m0 - up)) + k * wp) * kInv;
     const m1 = drive * hb;
-    const c1 = (softClip(m1 + k * (m1 - m0)) + k * c0) * kInv;
+    const c1 = (tapeCurve(m1 + k * (m1 - m0)) + k * c0) * kInv;
     const m2 = drive * gd;
-    const c2 = (softClip(m2 + k * (m2 - m1)) + k * c1) * kInv;
+    const c2 = (tapeCurve(m2 + k * (m2 - m1)) + k * c1) * kInv;
     const m3 = drive * hd;
-    const c3 = (softClip(m3 + k * (m3 - m2)) + k * c2) * kInv;
+    const c3 = (tapeCurve(m3 + k * (m3 - m2)) + k * c2) * kInv;
     up = m3; wp = c3;
     const y0 = dryGain * gb + wetGain * c0;
     const y1 = dryGain * hb + wetGain * c1;
@@ -228,5 +258,5 @@ function kernel4(c: Float64Array, st: Float64Array, io: Float64Array, start: num
   st[8] = e1; st[9] = o1; st[10] = r; st[11] = d1; st[12] = d2; st[13] = d3; st[14] = d4; st[15] = f1; st[16] = f2; st[17] = f3;
   st[18] = w1; st[19] = g1; st[20] = g2; st[21] = h1; st[22] = h2;
   st[23] = ze; st[24] = zo; st[25] = rr; st[26] = k1; st[27] = k2; st[28] = n1; st[29] = n2;
-  st[30] = up; st[31] = wp; st[32] = z1; st[33] = z2; st[34] = zl;
+  st[30] = up; st[31] = wp; st[32] = z1; st[33] = z2; st[34] = zl; st[35] = peak;
 }

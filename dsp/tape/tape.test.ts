@@ -2,9 +2,8 @@ import { describe, expect, it } from "vitest";
 import { biquadPowerGain, designBiquad } from "../filters/biquad-design.ts";
 import { FLUSH_INTERVAL_FRAMES } from "../filters/paired-biquad.ts";
 import { Oversampler } from "../saturate/oversampler.ts";
-import { softClip } from "../saturate/soft-clip.ts";
 import { gaussian, pinkNoise, rmsDb, runBlocks, toneDb } from "../test-signals.test-util.ts";
-import { BUMP_Q, curveDrive, designBump, designLoss, EMPHASIS_HZ, TapeStage, tapeSmallSignalDb, wetCompensation, type TapeSettings } from "./tape.ts";
+import { BUMP_Q, curveDrive, tapeCurve, designBump, designLoss, EMPHASIS_HZ, TapeStage, tapeSmallSignalDb, wetCompensation, type TapeSettings } from "./tape.ts";
 import FFT from "fft.js";
 
 const FS = 48000;
@@ -51,6 +50,21 @@ describe("tape stage: small-signal response equals its designed linear filters (
 });
 
 describe("tape stage: the non-linear part", () => {
+  it("the curve: odd, slope 1 at 0, ±1 with zero slope at ±3 and beyond, monotonic, within 0.025 of tanh", () => {
+    expect(tapeCurve(3)).toBe(1);
+    expect(tapeCurve(50)).toBe(1);
+    expect((tapeCurve(1e-6) - tapeCurve(-1e-6)) / 2e-6).toBeCloseTo(1, 9);
+    expect((tapeCurve(3) - tapeCurve(3 - 1e-6)) / 1e-6).toBeCloseTo(0, 5);
+    let prev = -Infinity;
+    for (let x = -4; x <= 4; x += 0.001) {
+      const y = tapeCurve(x);
+      expect(tapeCurve(-x)).toBe(-y);
+      expect(Math.abs(y - Math.tanh(x))).toBeLessThan(0.025);
+      expect(y).toBeGreaterThanOrEqual(prev);
+      prev = y;
+    }
+  });
+
   it("THD of a 100 Hz sine at −12 dBFS grows monotonically with driveDb, and stays below −60 dB at driveDb 0 (DFT bins of harmonics 2–15)", () => {
     const drives = [0, 3, 6, 9, 12, 15, 18, 21, 24];
     const thd = drives.map((driveDb) => thdDb({ ...BASE, driveDb, bumpDb: 0, rolloffHz: null }));
@@ -114,7 +128,7 @@ describe("tape stage: structure", () => {
     let up = 0, wp = 0;
     for (let i = 0; i < factor * frames; i++) {
       const m = drive * high[i];
-      const w = (softClip(m + k * (m - up)) + k * wp) * (1 / (1 + k));
+      const w = (tapeCurve(m + k * (m - up)) + k * wp) * (1 / (1 + k));
       up = m;
       wp = w;
       high[i] = (1 - settings.blend) * high[i] + wet * w;
@@ -155,13 +169,13 @@ describe("tape stage: structure", () => {
     }
   });
 
-  it("reports how hard the curve is hit: 20·log10(u / softClip(u)) at the step's peak u = drive·peak", () => {
+  it("reports how hard the curve is hit: 20·log10(u / tapeCurve(u)) at the step's peak u = drive·peak", () => {
     const proc = new TapeStage(FS, 1, { ...BASE, driveDb: 18 }, 480);
     const out = new Float64Array(1);
     proc.process([sine(480, 100, 0.5)], 480);
     proc.takeGainReductionDb(out);
     const u = curveDrive(18) * Math.max(...sine(480, 100, 0.5));
-    expect(out[0]).toBeCloseTo(20 * Math.log10(u / softClip(u)), 12);
+    expect(out[0]).toBeCloseTo(20 * Math.log10(u / tapeCurve(u)), 12);
     proc.process([new Float64Array(480)], 480);
     proc.takeGainReductionDb(out);
     expect(out[0]).toBe(0);

@@ -15,9 +15,10 @@
 
 import { designBiquad, type BiquadCoeffs } from "../filters/biquad-design.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
-import { softClip } from "../saturate/soft-clip.ts";
 import { dbToLinear } from "../units.ts";
-import { TapeKernel, type TapeKernelParams } from "./tape-kernels.ts";
+import { TapeKernel, tapeCurve, type TapeKernelParams } from "./tape-kernels.ts";
+
+export { tapeCurve };
 
 export interface TapeSettings {
   driveDb: number;
@@ -46,7 +47,7 @@ export function curveDrive(driveDb: number): number {
 }
 
 /**
- * RMS(x) / RMS(softClip(d·x)/d) for Gaussian x of the given RMS: the wet
+ * RMS(x) / RMS(tapeCurve(d·x)/d) for Gaussian x of the given RMS: the wet
  * path's make-up (numeric integration over ±8σ of the normal density).
  */
 export function noiseLevelCompensation(drive: number, rms: number): number {
@@ -56,7 +57,7 @@ export function noiseLevelCompensation(drive: number, rms: number): number {
     const z = -8 + (16 * i) / n;
     const p = Math.exp(-0.5 * z * z);
     const x = rms * z;
-    const y = softClip(drive * x) / drive;
+    const y = tapeCurve(drive * x) / drive;
     wet += p * y * y;
     dry += p * x * x;
   }
@@ -127,7 +128,6 @@ export class TapeStage implements Processor, GainReductionSource {
   readonly traceNames = ["curve"] as const;
   private readonly kernel: TapeKernel;
   private readonly params: TapeKernelParams;
-  private peak = 0;
 
   constructor(sampleRate: number, channels: number, settings: TapeSettings, maxBlockFrames: number) {
     void maxBlockFrames; // the fused kernels need no buffers
@@ -150,25 +150,14 @@ export class TapeStage implements Processor, GainReductionSource {
 
   reset(): void {
     this.kernel.reset();
-    this.peak = 0;
   }
 
   process(channels: Planar, frames: number): void {
-    let peak = this.peak;
-    for (let c = 0; c < channels.length; c++) {
-      const x = channels[c];
-      for (let i = 0; i < frames; i++) {
-        const a = Math.abs(x[i]);
-        peak = a > peak ? a : peak;
-      }
-    }
-    this.peak = peak;
     this.kernel.process(channels, frames, this.params);
   }
 
   takeGainReductionDb(out: Float64Array): void {
-    const u = this.params.drive * this.peak;
-    out[0] = u > 1e-9 ? 20 * Math.log10(u / softClip(u)) : 0;
-    this.peak = 0;
+    const u = this.params.drive * this.kernel.takePeak();
+    out[0] = u > 1e-9 ? 20 * Math.log10(u / tapeCurve(u)) : 0;
   }
 }
