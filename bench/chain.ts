@@ -39,6 +39,14 @@ export const BENCH_CHAIN: ChainInput = {
   output: { bitDepth: 24, dither: "tpdf" },
 };
 
+/** The resonance and tape stages, timed one at a time (not in BENCH_CHAIN, so its figures stay comparable). */
+export const NEW_STAGES: [string, NonNullable<ChainInput["stages"]>[number]][] = [
+  ["resonance (STFT 2048, linked stereo)", { type: "resonance", lowHz: 1000, highHz: 8000, thresholdDb: 4, maxCutDb: 6, attackMs: 20, releaseMs: 150, blend: 1, listen: "output" }],
+  ["tape 4×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 4 }],
+  ["tape 2×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 2 }],
+  ["saturate 4× (for comparison)", { type: "saturate", driveDb: 6, blend: 1, oversample: 4 }],
+];
+
 export function chainOf(input: ChainInput): Chain {
   const r = parseChain(input);
   if (!r.ok) throw new Error(JSON.stringify(r.errors));
@@ -151,6 +159,11 @@ export async function run(): Promise<void> {
     console.log(`  output ${res.output.integratedLufs.toFixed(2)} LUFS, ${res.output.truePeakDbtp.toFixed(2)} dBTP`);
     console.log("  per stage (10 s of noise in memory, best of 5), ns per sample per channel:");
     for (const s of perStageNs(chain, 10)) console.log(`    ${s.type.padEnd(34)} ${s.nsPerSample.toFixed(1)}`);
+    console.log("  resonance and tape stages, alone (the same noise, best of 5; targets: resonance ≤ 60, tape ≤ 30 at 4×):");
+    for (const [label, stage] of NEW_STAGES) {
+      const ns = perStageNs(chainOf({ stages: [stage] }), 10).find((s) => s.type === stage.type)!.nsPerSample;
+      console.log(`    ${label.padEnd(34)} ${ns.toFixed(1)}`);
+    }
 
     if (spawnSync("ffmpeg", ["-version"]).status === 0) {
       const f0 = performance.now();

@@ -5,6 +5,7 @@
 // Static imports only: a dynamic import() of a .ts file inside a thread is not
 // resolved by tsx's loader (found out the hard way).
 import { analyzeFile } from "../../dsp/analysis.ts";
+import { printRefusal } from "../../dsp/chain/print-check.ts";
 import { formatChainErrors, parseChain } from "../../dsp/chain/schema.ts";
 import { renderFile } from "../../dsp/render/render-file.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
@@ -37,6 +38,9 @@ export default async function runTask(raw: unknown): Promise<AnalyzeResult | Ren
     const parsed = parseChain(task.chain);
     if (!parsed.ok) throw new Error(`the chain is not valid: ${formatChainErrors(parsed.errors)}`);
     const chain = parsed.chain;
+    // The form and the API refuse such a print; a revision queued another way still must not become a master.
+    const refusal = task.preview ? null : printRefusal(chain);
+    if (refusal) throw new Error(refusal);
     const result = await renderFile(task.inputPath, task.outputPath, chain, {
       region: task.region ?? undefined,
       preview: task.preview,

@@ -8,7 +8,9 @@ import { MultibandCompressor } from "../dynamics/multiband.ts";
 import { Limiter } from "../limit/limiter.ts";
 import { TruePeakDetector } from "../loudness/true-peak.ts";
 import type { GainReductionSource, Processor } from "../processor.ts";
+import { ResonanceTamer } from "../resonance/resonance.ts";
 import { Saturator } from "../saturate/saturator.ts";
+import { TapeStage } from "../tape/tape.ts";
 import { EqStage } from "./eq-stage.ts";
 import type { Chain, Stage } from "./schema.ts";
 import { TrimStage } from "./trim-stage.ts";
@@ -46,6 +48,18 @@ export function buildChain(chain: Chain, sampleRate: number, channels: number, m
       case "saturate":
         processor = new Saturator(sampleRate, channels, stage, maxBlockFrames);
         break;
+      case "resonance": {
+        const r = new ResonanceTamer(sampleRate, channels, stage, maxBlockFrames);
+        processor = r;
+        gr = r;
+        break;
+      }
+      case "tape": {
+        const t = new TapeStage(sampleRate, channels, stage, maxBlockFrames);
+        processor = t;
+        gr = t;
+        break;
+      }
       case "compress": {
         const c = new Compressor(sampleRate, channels, stage, maxBlockFrames);
         processor = c;

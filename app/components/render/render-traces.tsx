@@ -12,7 +12,7 @@ export type ChartTraces = {
 };
 
 const SERIES_COLOURS = ["#0e5f6b", "#b3672b", "#5a4f9c", "#3f7d3a", "#a3321f", "#4a4d55"];
-const STAGE_NAMES: Record<string, string> = { multiband: "Multiband dynamics", compress: "Compressor", limit: "Limiter", saturate: "Saturation" };
+const STAGE_NAMES: Record<string, string> = { multiband: "Multiband dynamics", compress: "Compressor", limit: "Limiter", saturate: "Saturation", resonance: "Resonance taming (deepest cut)", tape: "Tape colour (curve compression at the peak)" };
 
 const tick = { fontFamily: "var(--font-mono)", fontSize: 11 };
 const timeLabel = (s: number) => `${s.toFixed(s < 10 ? 1 : 0)} s`;
