@@ -10,6 +10,7 @@
 
 import { kWeightingCoeffs } from "./k-weighting.ts";
 import { TruePeakDetector } from "./true-peak.ts";
+import { type ThirdOctaveBand, ThirdOctaveAnalyzer } from "../spectrum/third-octave.ts";
 
 export interface LoudnessAnalysis {
   integratedLufs: number;
@@ -24,6 +25,8 @@ export interface LoudnessAnalysis {
   gridMs: number;
   /** Short-term loudness at the end of each grid step (window padded with silence before the start); -Infinity where silent. */
   shortTermLufs: number[];
+  /** Long-term third-octave spectrum (25 Hz – 20 kHz); present when the meter was built with spectrum: true. */
+  thirdOctave?: ThirdOctaveBand[];
 }
 
 export interface MeterOptions {
@@ -33,6 +36,8 @@ export interface MeterOptions {
   gridMs?: number;
   /** Keep the short-term curve and the gating blocks for result(); default true. Live meters (the listening desk) that run for hours turn it off and read momentaryLufs / shortTermLufs. */
   history?: boolean;
+  /** Measure the third-octave spectrum in the same pass (`dsp/spectrum/third-octave.ts`); default false. */
+  spectrum?: boolean;
 }
 
 const LOUDNESS_OFFSET_DB = -0.691;
@@ -109,6 +114,7 @@ export class LoudnessMeter {
   private readonly ring: Float64Array; // weighted energy of the last shortTermSteps grid steps
   private readonly truePeak: TruePeakDetector | null;
   private readonly tpChunk: Float64Array[];
+  private readonly spectrum: ThirdOctaveAnalyzer | null;
   private stepFill = 0;
   private stepCount = 0;
   private samplePeak = 0;
@@ -148,6 +154,7 @@ export class LoudnessMeter {
     this.truePeak = wantTruePeak ? new TruePeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
     this.tpChunk = [];
     this.history = options.history ?? true;
+    this.spectrum = options.spectrum ? new ThirdOctaveAnalyzer(sampleRate, channels) : null;
   }
 
   /** Momentary loudness (400 ms) at the last completed grid step; -Infinity when silent. */
@@ -170,6 +177,7 @@ export class LoudnessMeter {
     this.stepEnergy.fill(0);
     this.ring.fill(0);
     this.truePeak?.reset();
+    this.spectrum?.reset();
     this.stepFill = 0;
     this.stepCount = 0;
     this.samplePeak = 0;
@@ -191,6 +199,7 @@ export class LoudnessMeter {
         this.truePeak.process(this.tpChunk, n);
       }
     }
+    this.spectrum?.process(channels, frames);
     let pos = 0;
     while (pos < frames) {
       const n = Math.min(frames - pos, this.gridFrames - this.stepFill);
@@ -342,6 +351,7 @@ export class LoudnessMeter {
       correlation,
       gridMs: this.gridMs,
       shortTermLufs: this.shortTermCurve.slice(),
+      ...(this.spectrum ? { thirdOctave: this.spectrum.result() } : {}),
     };
   }
 }

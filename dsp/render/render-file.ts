@@ -188,7 +188,7 @@ async function renderPass(
   const writer = await createWavWriter(outPath, { sampleRate: sr, channels: nch, bitDepth: bitDepth === "32f" ? 32 : bitDepth, float: bitDepth === "32f" });
   // The input is the same on every pass: meter it once.
   const meterIn = previousInput ? null : new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
-  const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
+  const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS, spectrum: true });
   const startFrame = region ? Math.round(region.startS * sr) : 0;
   const endFrame = region ? Math.min(fmt.frames, Math.round(region.endS * sr)) : fmt.frames;
   const totalFrames = endFrame - startFrame;
