@@ -38,7 +38,7 @@ test("an engineer listens at the desk, bypasses, pushes, edits and saves exactly
 
   // One click from the track to the desk.
   await page.getByRole("list", { name: "Chains of this track" }).getByRole("link", { name: /Open .* at the desk/ }).first().click();
-  await expect(page.getByTestId("desk")).toBeVisible();
+  await expect(page.getByTestId("desk")).toBeVisible({ timeout: 20_000 });
   const chainId = await page.getByTestId("chain-id").inputValue();
   await expect(page.getByTestId("monitoring-reminder")).toBeVisible();
   await page.screenshot({ path: "/tmp/desk0.png", fullPage: true }); // TEMP

@@ -150,10 +150,11 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
       if (!e) {
         setEngineState({ status: "loading", fraction: 0 });
         const mod = await loadDeskEngine();
-        if (mod.PUSH_DESCRIPTIONS) setPushHelp({ ...PUSH_FALLBACK, ...mod.PUSH_DESCRIPTIONS });
+        setPushHelp({ ...PUSH_FALLBACK, ...mod.PUSH_DESCRIPTIONS });
         e = await mod.DeskEngine.open({ url: mix.audioUrl }, region, heard.current, { onProgress: (fraction) => setEngineState({ status: "loading", fraction }) });
         engine.current = e;
         e.onMeters((m) => store.set(m, limiterIndexRef.current));
+        e.onError((message) => setEngineState({ status: "error", message: `The desk stopped: ${message}` }));
         e.setMatch(matchRef.current);
         e.setBypassAll(bypassAllRef.current);
         e.setCompareChain(compareChainRef.current);
