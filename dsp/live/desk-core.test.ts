@@ -9,7 +9,7 @@ import { PREROLL_S, prerollStartFrame } from "../render/preroll.ts";
 import { DeskCore } from "./desk-core.ts";
 import { chainOf, EVERY_STAGE, musicLike, renderStretch } from "./live.test-util.ts";
 
-const SR = 48000;
+const SR = Number(process.env.DESK_TEST_SR ?? 48000);
 
 function runDesk(chain: Chain, audio: Float32Array[], regionStart: number, regionEnd: number, frames: number, setup?: (core: DeskCore) => void): Float32Array[] {
   const audioStart = prerollStartFrame(regionStart, SR);

@@ -205,6 +205,8 @@ export class LiveChain {
     readonly sampleRate: number,
     readonly channels: number,
     readonly maxBlockFrames = 128,
+    /** Glide time; 0 switches settings in one step (tests use it to show what the glide prevents). */
+    private readonly glideMs = GLIDE_MS,
   ) {
     this.dryBuf = Array.from({ length: channels }, () => new Float64Array(maxBlockFrames));
     this.allDryBuf = Array.from({ length: channels }, () => new Float64Array(maxBlockFrames));
@@ -322,7 +324,7 @@ export class LiveChain {
     slot.from = Float64Array.from(leaves.map((l) => l.obj[l.key] as number));
     slot.to = Float64Array.from(to);
     const changed = slot.from.some((v, i) => !Object.is(v, slot.to[i]));
-    slot.glideFrames = changed ? Math.max(1, Math.round((GLIDE_MS / 1000) * this.sampleRate)) : 0;
+    slot.glideFrames = changed ? Math.max(1, Math.round((this.glideMs / 1000) * this.sampleRate)) : 0;
     slot.glideDone = 0;
     // Flags act at once; numbers follow step by step in process().
     this.apply(slot);

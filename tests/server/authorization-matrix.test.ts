@@ -147,6 +147,10 @@ const cases: Case[] = [
   { route: "/releases/:releaseId/tracks/:trackId/chains/new", file: "routes/chain-new.tsx", kind: "action", handler: chainNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/chains/new`, params: trk, form: { name: "" }, expected: releaseStaff },
   { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "loader", handler: chainPage.loader as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), expected: releaseStaff },
   { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "action", handler: chainPage.action as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), form: { params: "{" }, expected: releaseStaff },
+  // The desk on a mix of the chain's track (the loader reads its analysis for the default region).
+  { route: "/chains/:chainId?mix=", file: "routes/chain.tsx", kind: "loader", handler: chainPage.loader as Handler, path: () => `/chains/${trackChainId}?mix=${stored.mixId}`, params: () => ({ chainId: trackChainId }), expected: releaseStaff },
+  // A render from the desk without a kind: staff get the 400 with field errors; nothing is saved or queued.
+  { route: "/chains/:chainId (render)", file: "routes/chain.tsx", kind: "action", handler: chainPage.action as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), form: () => ({ intent: "render", params: JSON.stringify({ stages: [] }), mixId: stored.mixId }), expected: releaseStaff },
   { route: "/templates", file: "routes/templates.tsx", kind: "loader", handler: templates.loader as Handler, path: () => "/templates", expected: staff },
   { route: "/templates", file: "routes/templates.tsx", kind: "action", handler: templates.action as Handler, path: () => "/templates", form: { name: "" }, expected: staff },
   { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "loader", handler: settingsTokens.loader as Handler, path: () => "/settings/tokens", expected: signedIn },

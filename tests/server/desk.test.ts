@@ -40,9 +40,9 @@ type Page = Awaited<ReturnType<typeof chainPage.loader>>;
 
 describe("the desk opens", () => {
   it("on the latest revision and the newest mix, at the loudest 30 s of its analysis", async () => {
-    // A 100 s mix whose short-term loudness (10 ms grid) is loud from 50 s to 80 s.
+    // A 100 s mix whose short-term loudness (10 ms grid, each value over the 3 s before it) is loud from 50 s to 80 s.
     await db("mixes").where({ id: stored.mixId }).update({ frames: 100 * 48_000 });
-    const shortTermLufs = Array.from({ length: 10_000 }, (_, j) => ((j + 1) / 100 > 53 && (j + 1) / 100 <= 80 ? -8 : -30));
+    const shortTermLufs = Array.from({ length: 10_000 }, (_, j) => ((j + 1) / 100 >= 53 && (j + 1) / 100 <= 80 ? -8 : -30));
     await saveAnalysis(stored.mixId, { gridMs: 10, shortTermLufs, integratedLufs: -20 });
     const page = (await call(chainPage.loader, requestAs(f, "engineer", `/chains/${chainId}`))) as Page;
     expect(page.opened?.revision).toBe(1);

@@ -8,6 +8,8 @@ describe("desk nudges", () => {
     expect(nudge(-18, COMPRESS_FIELDS.thresholdDb, -1, true)).toBe(-18.05);
     expect(nudge(-0.2, COMPRESS_FIELDS.thresholdDb, 3, false)).toBe(0);
     expect(nudge(2, COMPRESS_FIELDS.ratio, 3, false)).toBe(2.3);
+    // A fine value moves by whole steps without snapping to the coarse grid.
+    expect(nudge(-25.05, COMPRESS_FIELDS.thresholdDb, -6, false)).toBe(-28.05);
   });
   it("moves frequencies by fractions of an octave", () => {
     expect(nudge(1000, EQ_BAND_FIELDS.freqHz, 24, false)).toBe(2000);

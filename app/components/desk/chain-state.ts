@@ -71,7 +71,8 @@ export function nudge(value: number, range: FieldRange, steps: number, fine: boo
     return Math.min(range.max, Math.max(range.min, rounded));
   }
   const step = fine ? range.step / 10 : range.step;
-  return Math.min(range.max, Math.max(range.min, roundTo(value + steps * step, step)));
+  // Rounded to the fine step only, so a value set finely keeps its fine part when moved coarsely.
+  return Math.min(range.max, Math.max(range.min, roundTo(value + steps * step, range.step / 10)));
 }
 
 /** Immutable update at a path of keys and indexes. */

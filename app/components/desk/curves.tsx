@@ -84,8 +84,10 @@ export function EqCurve({ bands, sampleRate }: { bands: EqBand[]; sampleRate: nu
     if (v > stereo[maxI]) maxI = i;
     if (v < stereo[minI]) minI = i;
   });
+  const boost = stereo[maxI] >= 0.05 ? `most boost ${fmtDb(stereo[maxI], true)} at ${fmtHz(FREQS[maxI])}` : "no boost";
+  const cut = stereo[minI] <= -0.05 ? `most cut ${fmtDb(stereo[minI], true)} at ${fmtHz(FREQS[minI])}` : "no cut";
   const caption =
-    `Stereo: most boost ${fmtDb(stereo[maxI], true)} at ${fmtHz(FREQS[maxI])}, most cut ${fmtDb(stereo[minI], true)} at ${fmtHz(FREQS[minI])}` +
+    `Stereo: ${boost}, ${cut}` +
     (curves.length > 1 ? `; also drawn: ${curves.slice(1).map((c) => c.mode).join(", ")}` : "");
   return (
     <Figure title="Equaliser response" caption={caption} testId="curve-eq">
@@ -109,7 +111,10 @@ export function EqCurve({ bands, sampleRate }: { bands: EqBand[]; sampleRate: nu
 const LEVEL_LOW = -60;
 const LEVEL_HIGH = 0;
 
-export function CompressorCurve({ settings, grDb, title = "Compressor curve" }: { settings: StaticCurveSettings; grDb: number | null; title?: string }) {
+export function CompressorCurve({ settings: given, grDb, title = "Compressor curve" }: { settings: Pick<StaticCurveSettings, "thresholdDb" | "ratio" | "kneeDb"> & { makeupDb?: unknown }; grDb: number | null; title?: string }) {
+  const { thresholdDb, ratio, kneeDb } = given;
+  const makeupDb = typeof given.makeupDb === "number" ? given.makeupDb : 0;
+  const settings = useMemo(() => ({ thresholdDb, ratio, kneeDb, makeupDb }), [thresholdDb, ratio, kneeDb, makeupDb]);
   const points = useMemo(() => staticCurve(settings, LEVEL_LOW, LEVEL_HIGH, 121), [settings]);
   const point = grDb === null ? null : operatingPoint(grDb, settings);
   const x = (db: number) => PAD.left + ((W - PAD.left - PAD.right) * (db - LEVEL_LOW)) / (LEVEL_HIGH - LEVEL_LOW);

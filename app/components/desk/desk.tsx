@@ -150,10 +150,11 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
       if (!e) {
         setEngineState({ status: "loading", fraction: 0 });
         const mod = await loadDeskEngine();
-        if (mod.PUSH_DESCRIPTIONS) setPushHelp({ ...PUSH_FALLBACK, ...mod.PUSH_DESCRIPTIONS });
+        setPushHelp({ ...PUSH_FALLBACK, ...mod.PUSH_DESCRIPTIONS });
         e = await mod.DeskEngine.open({ url: mix.audioUrl }, region, heard.current, { onProgress: (fraction) => setEngineState({ status: "loading", fraction }) });
         engine.current = e;
         e.onMeters((m) => store.set(m, limiterIndexRef.current));
+        e.onError((message) => setEngineState({ status: "error", message: `The desk stopped: ${message}` }));
         e.setMatch(matchRef.current);
         e.setBypassAll(bypassAllRef.current);
         e.setCompareChain(compareChainRef.current);
@@ -578,27 +579,28 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
 
 function StageCurve({ stage, index, sampleRate, store }: { stage: Json | undefined; index: number; sampleRate: number; store: MeterStore }) {
   const meters = useMeters(store);
-  if (!stage) return <p className="text-sm text-ink-soft">Select a stage to see its curve.</p>;
   const gr = meters?.stages.find((s) => s.index === index)?.grDb ?? [];
+  // The settings' arrays only change when the stage does, so curves are not recomputed on every meter frame.
+  const eqBands = useMemo(() => (stage?.type === "eq" ? ((stage.bands as EqBand[]) ?? []).map((b) => ({ ...b, channel: b.channel ?? "stereo" })) : []), [stage]);
+  const crossoversHz = useMemo(() => (stage?.type === "multiband" ? ((stage.crossoversHz as unknown[]) ?? []).map(Number) : []), [stage]);
+  if (!stage) return <p className="text-sm text-ink-soft">Select a stage to see its curve.</p>;
   switch (stage.type) {
     case "eq":
-      return <EqCurve bands={((stage.bands as EqBand[]) ?? []).map((b) => ({ ...b, channel: b.channel ?? "stereo" }))} sampleRate={sampleRate} />;
+      return <EqCurve bands={eqBands} sampleRate={sampleRate} />;
     case "compress": {
       const s = stage as unknown as CompressStage;
       if (![s.thresholdDb, s.ratio, s.kneeDb].every((v) => typeof v === "number")) return null;
-      return <CompressorCurve settings={{ thresholdDb: s.thresholdDb, ratio: s.ratio, kneeDb: s.kneeDb, makeupDb: typeof s.makeupDb === "number" ? s.makeupDb : 0 }} grDb={meters ? (gr[0] ?? 0) : null} />;
+      return <CompressorCurve settings={s} grDb={meters ? (gr[0] ?? 0) : null} />;
     }
     case "multiband": {
       const s = stage as unknown as MultibandStage;
       const bands = s.bands ?? [];
       return (
         <div className="space-y-3">
-          <MultibandCurve crossoversHz={(s.crossoversHz ?? []).map(Number)} sampleRate={sampleRate} grDb={bands.map((_, b) => gr[b] ?? 0)} soloed={bands.map((b) => b.solo === true)} />
+          <MultibandCurve crossoversHz={crossoversHz} sampleRate={sampleRate} grDb={bands.map((_, b) => gr[b] ?? 0)} soloed={bands.map((b) => b.solo === true)} />
           <div className="grid gap-3 sm:grid-cols-2">
             {bands.map((b, i) =>
-              [b.thresholdDb, b.ratio, b.kneeDb].every((v) => typeof v === "number") ? (
-                <CompressorCurve key={i} title={`Band ${i + 1} curve`} settings={{ thresholdDb: b.thresholdDb, ratio: b.ratio, kneeDb: b.kneeDb, makeupDb: typeof b.makeupDb === "number" ? b.makeupDb : 0 }} grDb={meters ? (gr[i] ?? 0) : null} />
-              ) : null,
+              [b.thresholdDb, b.ratio, b.kneeDb].every((v) => typeof v === "number") ? <CompressorCurve key={i} title={`Band ${i + 1} curve`} settings={b} grDb={meters ? (gr[i] ?? 0) : null} /> : null,
             )}
           </div>
         </div>

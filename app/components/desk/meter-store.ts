@@ -13,6 +13,8 @@ export class MeterStore {
   private history: number[] = [];
   private historyStage = -1;
 
+  private frame: number | null = null;
+
   set(meters: DeskMeters | null, limiterStage: number): void {
     this.meters = meters;
     if (meters && limiterStage >= 0) {
@@ -21,6 +23,14 @@ export class MeterStore {
       const stage = meters.stages.find((s) => s.index === limiterStage);
       if (meters.playing) this.history = [...this.history.slice(-(LIMITER_HISTORY_S * 30 - 1)), stage?.grDb[0] ?? 0];
     }
+    // Readers draw at most once per display frame, however fast messages come.
+    if (meters === null || typeof requestAnimationFrame === "undefined") return this.notify();
+    if (this.frame === null) this.frame = requestAnimationFrame(() => this.notify());
+  }
+
+  private notify(): void {
+    if (this.frame !== null && typeof cancelAnimationFrame !== "undefined") cancelAnimationFrame(this.frame);
+    this.frame = null;
     for (const listener of this.listeners) listener();
   }
 

@@ -45,9 +45,9 @@ export function OutputMeters({ store, ceilingDbtp }: { store: MeterStore; ceilin
         <Row label="Correlation" value={(m?.correlation ?? 0).toFixed(2)} fraction={((m?.correlation ?? 0) + 1) / 2} testId="meter-correlation" />
         <Row label="Mix (input)" value={fmtLufs(m?.inputMomentaryLufs ?? -Infinity)} fraction={lufsFraction(m?.inputMomentaryLufs ?? -Infinity)} testId="meter-input" />
       </dl>
-      {m && m.droppedBlocks > 0 && (
-        <p className="text-xs text-danger" role="status">
-          <span className="num">{m.droppedBlocks}</span> audio blocks were late: the computer could not keep up, and what you hear has gaps.
+      {m && m.droppedBlocks + m.lateBlocks > 0 && (
+        <p className="text-xs text-danger" data-testid="meter-late">
+          <span className="num">{m.droppedBlocks + m.lateBlocks}</span> audio blocks were dropped or late: the computer could not keep up, and what you hear may have gaps.
         </p>
       )}
     </section>

@@ -56,7 +56,7 @@ const LIMITER_HISTORY = 6 * METER_RATE_HZ;
 
 type Loaded = { sampleRate: number; channels: number; audio: Float32Array<ArrayBuffer>[]; audioStartFrame: number; regionStartFrame: number; regionEndFrame: number };
 
-async function load(source: DeskSource, region: DeskRegion, onProgress?: (f: number) => void): Promise<Loaded> {
+export async function loadDeskAudio(source: DeskSource, region: DeskRegion, onProgress?: (f: number) => void): Promise<Loaded> {
   if (!(region.endS > region.startS && region.startS >= 0)) throw new Error(`region ${region.startS}–${region.endS} s must have 0 ≤ start < end`);
   if (region.endS - region.startS > MAX_REGION_S + 1e-9) throw new Error(`the desk plays at most ${MAX_REGION_S} s; the region is ${(region.endS - region.startS).toFixed(1)} s`);
   const io: Io = { fetch: (u, init) => fetch(u, init), decode: () => Promise.reject(new Error("not used")) };
@@ -117,7 +117,7 @@ export class DeskEngine {
 
   /** Fetches the mix over the region plus its pre-roll, decodes it at its own rate, builds the worklet. */
   static async open(source: DeskSource, region: DeskRegion, chain: Chain, options: { onProgress?: (fraction: number) => void } = {}): Promise<DeskEngine> {
-    const loaded = await load(source, region, options.onProgress);
+    const loaded = await loadDeskAudio(source, region, options.onProgress);
     const context = new AudioContext({ sampleRate: loaded.sampleRate, latencyHint: "playback" });
     try {
       if (context.sampleRate !== loaded.sampleRate) throw new Error(`this browser cannot play ${loaded.sampleRate} Hz audio without resampling`);
@@ -228,12 +228,12 @@ export class DeskEngine {
 
   /** Loads another region (fetch, pre-roll); the chain, Match, Bypass all and the compare chain carry over where they can. */
   async setRegion(region: DeskRegion, options: { onProgress?: (fraction: number) => void } = {}): Promise<void> {
-    const loaded = await load(this.source, region, options.onProgress);
+    const loaded = await loadDeskAudio(this.source, region, options.onProgress);
     if (this.closed) return;
     if (loaded.sampleRate !== this.sampleRate) throw new Error("the mix's sample rate changed; open the desk again");
     await new Promise<void>((resolve, reject) => {
       this.pendingReady = { resolve, reject };
-      const m: ToWorklet = { type: "load", channels: loaded.channels, audio: loaded.audio, audioStartFrame: loaded.audioStartFrame, regionStartFrame: loaded.regionStartFrame, regionEndFrame: loaded.regionEndFrame, chain: this.chain, playing: this.playing };
+      const m: ToWorklet = { type: "load", channels: loaded.channels, audio: loaded.audio, audioStartFrame: loaded.audioStartFrame, regionStartFrame: loaded.regionStartFrame, regionEndFrame: loaded.regionEndFrame, chain: this.chain, playing: this.playing, match: this.match };
       this.node.port.postMessage(m, loaded.audio.map((a) => a.buffer as ArrayBuffer));
     });
     // A new region starts a new stream: the switches carry over.

@@ -62,6 +62,7 @@ class DeskProcessor extends AudioWorkletProcessor {
           chain: m.chain,
           ...(this.meterBuffer ? { meters: this.meterBuffer } : {}),
         });
+        core.setMatch(m.match);
         core.warm();
         if (this.core) {
           core.droppedBlocks = this.core.droppedBlocks;

@@ -17,6 +17,8 @@ export const toWorkletSchema = z.discriminatedUnion("type", [
     regionEndFrame: frame,
     chain: chainSchema,
     playing: z.boolean().default(false),
+    /** Match on or off from the first frame (on by default). */
+    match: z.boolean().default(true),
   }),
   z.object({ type: z.literal("play") }),
   z.object({ type: z.literal("pause") }),
