@@ -171,7 +171,7 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
             <div className="mt-3 space-y-2">
               <MonitoringReminder />
               {/* biome-ignore lint/a11y/useMediaCaption: a master has no words to caption */}
-              <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full" />
+              <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full max-w-full" />
               <p className="text-sm">
                 {downloadOpen ? (
                   <a href={`${here}/download`} download className="btn-primary inline-block">
