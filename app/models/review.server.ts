@@ -195,6 +195,19 @@ function check(state: ReviewState, event: ReviewEvent): void {
   if (!result.ok) throw new ReviewActionError(result.reason);
 }
 
+/**
+ * What sending this render would do to a client who has approved: null when
+ * nothing (not approved, or the approved master again), else the approved
+ * version and the version this one would be. Shown to the engineer before sending.
+ */
+export async function sendWarning(renderId: string): Promise<{ approvedVersion: number; version: number } | null> {
+  const render = await trackOfRender(db, renderId);
+  if (!render) return null;
+  const { state } = deriveReviewState(await reviewEvents(db, render.trackId));
+  if (!sendReopensApproval(state, render.recipe) || state.approvedVersion === null) return null;
+  return { approvedVersion: state.approvedVersion, version: versionOf(state, render.recipe) };
+}
+
 export type ReviewResult = { id: string; state: ReviewState; emailIds: string[] };
 
 async function after(t: Knex.Transaction, trackId: string, id: string, emailIds: string[]): Promise<ReviewResult> {

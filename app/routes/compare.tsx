@@ -23,7 +23,8 @@ import { listCompareSources, referenceOffsetS, sourceAnalysis, sourceSpectrum, s
 import { parseAlignment } from "../lib/compare/reference-alignment.ts";
 import { SpectrumChart } from "../components/spectrum/spectrum-chart.tsx";
 import { shownReviewState } from "../lib/review/state.ts";
-import { getTrackReview } from "../models/review.server.ts";
+import { getTrackReview, sendWarning } from "../models/review.server.ts";
+import { SendForReviewForm } from "../components/review/send-form.tsx";
 import { getTrack } from "../models/track.server.ts";
 import { AbPlayer } from "../components/player/ab-player.tsx";
 import { AnalysesCompare } from "../components/player/analyses-compare.tsx";
@@ -107,6 +108,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     aligned,
     changes,
     sameChain: a?.render && b?.render ? a.render.chainRevisionId === b.render.chainRevisionId : false,
+    sendWarning: staff && a?.type === "render" ? await sendWarning(a.id) : null,
   };
 }
 
@@ -277,17 +279,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
               </h2>
               {review.status === "changes_asked" && review.changesNote && <blockquote className="border-l-2 border-accent pl-3 text-sm">{review.changesNote}</blockquote>}
               {staff ? (
-                <Form method="post" className="space-y-2">
-                  <input type="hidden" name="intent" value="send" />
-                  <input type="hidden" name="renderId" value={aRender.id} />
-                  <label className="block text-sm">
-                    Message to the client (optional)
-                    <textarea name="message" rows={3} maxLength={4000} className="field-input mt-1" />
-                  </label>
-                  <button type="submit" className="btn-primary" disabled={busy}>
-                    {underReview ? "Send A again" : "Send A for review"}
-                  </button>
-                </Form>
+                <SendForReviewForm renderId={aRender.id} clientName={release.clientName} warning={loaderData.sendWarning} busy={busy} label={underReview ? "Send A again" : "Send A for review"} />
               ) : underReview && review.status === "sent" ? (
                 <VerdictForms renderId={aRender.id} busy={busy} />
               ) : (

@@ -70,7 +70,7 @@ export default function Release({ loaderData }: Route.ComponentProps) {
         }
         title={release.title}
         actions={
-          staff && (
+          staff ? (
             <>
               <Link to={`/releases/${release.id}/tracks/new`} className="btn-primary">
                 Add track
@@ -78,7 +78,14 @@ export default function Release({ loaderData }: Route.ComponentProps) {
               <Link to={`/releases/${release.id}/edit`} className="btn-quiet">
                 Edit release
               </Link>
+              <Link to={`/releases/${release.id}/room`} className="btn-quiet">
+                Review room
+              </Link>
             </>
+          ) : (
+            <Link to={`/releases/${release.id}/room`} className="btn-primary">
+              Listen and review
+            </Link>
           )
         }
       />

@@ -104,7 +104,8 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
     await expect(v1).toContainText(/dBTP/);
 
     await page.setViewportSize({ width: 375, height: 800 });
-    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(375);
+    // Charts and players re-measure on their resize observers' next frames: wait for the layout to settle, then read it.
+    await expect.poll(() => page.evaluate(() => document.documentElement.scrollWidth), { timeout: 5_000 }).toBeLessThanOrEqual(375);
     await page.setViewportSize({ width: 1280, height: 800 });
 
     // A refused file: the reader's reason beside the form, nothing added.
@@ -139,7 +140,8 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
 
     // At phone width the page does not scroll sideways.
     await page.setViewportSize({ width: 375, height: 800 });
-    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(375);
+    // Charts and players re-measure on their resize observers' next frames: wait for the layout to settle, then read it.
+    await expect.poll(() => page.evaluate(() => document.documentElement.scrollWidth), { timeout: 5_000 }).toBeLessThanOrEqual(375);
     await page.setViewportSize({ width: 1280, height: 800 });
 
     // Then the print, and its download.

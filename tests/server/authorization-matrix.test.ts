@@ -311,10 +311,13 @@ describe("authorisation matrix", () => {
     expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId, paidReleaseId]));
   });
 
-  it("lists on a client's track page only the renders sent to them for review", async () => {
+  it("sends a client from the track page to the review room, which lists only the renders sent to them", async () => {
     const load = async (persona: Persona) =>
       ((await track.loader({ request: requestAs(fixture, persona, `/releases/${fixture.releaseId}/tracks/${fixture.trackId}`), params: trk(fixture), context: {} } as never)) as { renders: { id: string }[] }).renders.map((r) => r.id);
-    expect(await load("client")).toEqual([reviewed.renderId]);
+    const thrown = await load("client").catch((e: unknown) => e);
+    expect((thrown as Response).headers.get("Location")).toBe(`/releases/${fixture.releaseId}/room?track=${fixture.trackId}`);
+    const room = (await reviewRoom.loader({ request: requestAs(fixture, "client", `/releases/${fixture.releaseId}/room?track=${fixture.trackId}`), params: rel(fixture), context: {} } as never)) as Awaited<ReturnType<typeof reviewRoom.loader>>;
+    expect(room.selected?.versions.map((v) => v.renderId)).toEqual([reviewed.renderId]);
     expect(new Set(await load("engineer"))).toEqual(new Set([reviewed.renderId, stored.renderId, apiRenderId]));
   });
 

@@ -47,6 +47,10 @@ async function makeRender(kind: "preview" | "print", params: unknown, traces: un
 const path = (query = "") => `/releases/${f.releaseId}/tracks/${f.trackId}/compare${query}`;
 const routeParams = () => ({ releaseId: f.releaseId, trackId: f.trackId });
 const load = (persona: Persona, query = "") => loader({ request: requestAs(f, persona, path(query)), params: routeParams(), context: {} } as never);
+const room = (persona: Persona, query = "") =>
+  reviewLoader({ request: requestAs(f, persona, `/releases/${f.releaseId}/room?track=${f.trackId}${query}`), params: { releaseId: f.releaseId }, context: {} } as never) as Promise<Awaited<ReturnType<typeof reviewLoader>>>;
+/** Where a page sent the viewer (a thrown redirect), or null. */
+const redirectedTo = (run: () => Promise<unknown>) => run().then(() => null, (r: unknown) => (r instanceof Response ? r.headers.get("Location") : Promise.reject(r)));
 const act = (persona: Persona, form: Record<string, string>) => action({ request: requestAs(f, persona, path(), { form }), params: routeParams(), context: {} } as never);
 const audio = (persona: Persona, renderId: string, range?: string) => {
   const request = requestAs(f, persona, `/renders/${renderId}/audio`);
@@ -116,11 +120,13 @@ describe("compare page", () => {
     }
   });
 
-  it("shows a client only renders sent to them, without traces, and lets them comment and give a verdict", async () => {
+  it("sends a client to the review room, which shows only renders sent to them; they comment and give a verdict here too", async () => {
     expect(await outcomeOf(() => load("otherClient"))).toBe("404");
     expect(await outcomeOf(() => load("otherStudio"))).toBe("404");
-    const before = (await load("client")) as Awaited<ReturnType<typeof loader>>;
-    expect(before.choices).toEqual([]);
+    // The compare page is the studio's: a client is sent to the room, which always plays.
+    expect(await redirectedTo(() => load("client"))).toBe(`/releases/${f.releaseId}/room?track=${f.trackId}`);
+    const before = await room("client");
+    expect(before.tracks).toEqual([]);
     expect(await outcomeOf(() => audio("client", renders.print))).toBe("404");
 
     // The client cannot send; the engineer can.
@@ -129,13 +135,12 @@ describe("compare page", () => {
     const mail = await db("outbox_emails").where({ studio_id: f.studioId, kind: "review_request" }).first("text", "to_address");
     expect(mail.to_address).toBe(f.users.client.email);
     // The e-mailed link uses the public address, whatever host the request came in on.
-    expect(mail.text).toContain(`${publicAppUrl()}${path(`?a=${renders.print}`)}`);
+    expect(mail.text).toContain(`${publicAppUrl()}/releases/${f.releaseId}/room?track=${f.trackId}&render=${renders.print}`);
 
-    const page = (await load("client")) as Awaited<ReturnType<typeof loader>>;
-    expect(page.choices.map((c) => c.id)).toEqual([renders.print]);
+    const page = await room("client");
+    expect(page.selected?.versions.map((v) => v.renderId)).toEqual([renders.print]);
     expect((await audio("client", renders.print)).status).toBe(200);
-    expect(page.aligned).toBeNull();
-    expect(page.review.status).toBe("sent");
+    expect(page.selected?.review.status).toBe("sent");
 
     const bad = dataOf<{ error: string }>(await act("client", { intent: "comment", renderId: renders.print, time: "soon", body: "Hm" }));
     expect(bad.status).toBe(400);
@@ -147,7 +152,7 @@ describe("compare page", () => {
     const empty = dataOf<{ error: string }>(await act("client", { intent: "changes", renderId: renders.print, note: " " }));
     expect(empty).toMatchObject({ status: 409, body: { error: "Say what should change." } });
     expect(await outcomeOf(() => act("client", { intent: "approve", renderId: renders.print }))).toBe("allowed");
-    expect(((await load("client")) as Awaited<ReturnType<typeof loader>>).review.status).toBe("approved");
+    expect((await room("client")).selected?.review.status).toBe("approved");
   });
 });
 
@@ -180,11 +185,8 @@ describe("compare page with mixes", () => {
     expect(page.a?.integratedLufs).toBeNull();
     expect(page.aligned).toBeNull();
     expect(page.analyses.a).toBeNull();
-    const client = (await load("client", `?a=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
-    expect(client.choices.every((c) => c.type === "render")).toBe(true);
-    expect(client.a?.type).toBe("render");
-    // The client does not see the studio's chain names: a version is told by when it was finished.
-    expect(client.a?.label).toMatch(/^Print · mix v1 · \d{4}-\d\d-\d\d \d\d:\d\d UTC$/);
+    // A client asking for a mix lands in the room, which has renders sent to them only.
+    expect(await redirectedTo(() => load("client", `?a=mix:${mixId}`))).toBe(`/releases/${f.releaseId}/room?track=${f.trackId}`);
     // A bare id (the e-mailed links) still names a render; a malformed key is ignored.
     const bare = (await load("engineer", `?a=${renders.print}&b=nonsense`)) as Awaited<ReturnType<typeof loader>>;
     expect([bare.a?.key, bare.b?.key]).toEqual([`render:${renders.print}`, `mix:${mixId}`]);
@@ -236,7 +238,9 @@ describe("compare actions: ids and who may act", () => {
     expect(await outcomeOf(() => act("client", { intent: "reopen", commentId: shared.id }))).toBe("allowed");
     expect((await db("comments").where({ id: shared.id }).first("resolved_at")).resolved_at).toBeNull();
     // Once the preview is sent too, its thread is the client's as well, and the review page links the A/B of the two sent versions.
-    expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.preview }))).toBe("allowed");
+    // The client approved the print: sending another master asks to review again, once confirmed.
+    expect(dataOf<{ error: string }>(await act("engineer", { intent: "send", renderId: renders.preview }))).toMatchObject({ status: 409, body: { error: expect.stringMatching(/review again/) } });
+    expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.preview, confirmNewReview: "yes" }))).toBe("allowed");
     expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: hidden.id }))).toBe("allowed");
     const roomPath = `/releases/${f.releaseId}/room?track=${f.trackId}&render=${renders.preview}`;
     const room = (await reviewLoader({ request: requestAs(f, "client", roomPath), params: { releaseId: f.releaseId }, context: {} } as never)) as Awaited<ReturnType<typeof reviewLoader>>;
