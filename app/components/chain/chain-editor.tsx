@@ -99,8 +99,8 @@ const OPTION_LABELS: Record<string, string> = {
   tpdf: "TPDF",
   none: "None",
   "32f": "32-bit float",
-  output: "The music (output)",
-  removed: "Only what it removes",
+  output: "Output",
+  removed: "Removed only",
 };
 
 function SelectInput({ ctx, path, label, value, options }: { ctx: Ctx; path: Path; label: string; value: unknown; options: readonly (string | number)[] }) {
