@@ -41,7 +41,7 @@ export const BENCH_CHAIN: ChainInput = {
 
 /** The resonance and tape stages, timed one at a time (not in BENCH_CHAIN, so its figures stay comparable). */
 export const NEW_STAGES: [string, NonNullable<ChainInput["stages"]>[number]][] = [
-  ["resonance (STFT 2048, linked stereo)", { type: "resonance", lowHz: 1000, highHz: 8000, thresholdDb: 4, maxCutDb: 6, attackMs: 20, releaseMs: 150, blend: 1, listen: "output" }],
+  ["resonance (STFT 2048, stereo)", { type: "resonance", lowHz: 1000, highHz: 8000, thresholdDb: 4, maxCutDb: 6, attackMs: 20, releaseMs: 150, blend: 1, listen: "output" }],
   ["tape 4×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 4 }],
   ["tape 2×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 2 }],
   ["saturate 4× (for comparison)", { type: "saturate", driveDb: 6, blend: 1, oversample: 4 }],

@@ -92,7 +92,6 @@ export class ResonanceTamer implements Processor, GainReductionSource {
   private readonly follow: Float64Array; // followed power per bin
   private readonly levelDb: Float64Array;
   private readonly prefix: Float64Array;
-  private readonly envDb: Float64Array;
   private readonly rawCut: Float64Array;
   private readonly smoothCut: Float64Array; // the cut per bin before blend (dB)
   private readonly cutOut: Float64Array;
@@ -146,7 +145,6 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.follow = new Float64Array(half + 1);
     this.levelDb = new Float64Array(half + 1);
     this.prefix = new Float64Array(half + 2);
-    this.envDb = new Float64Array(half + 1);
     this.rawCut = new Float64Array(half + 1);
     this.smoothCut = new Float64Array(half + 1);
     this.cutOut = new Float64Array(half + 1);
@@ -273,7 +271,7 @@ export class ResonanceTamer implements Processor, GainReductionSource {
 
   private detect(): void {
     const n = this.fftSize, lo = this.detLo, hi = this.detHi;
-    const follow = this.follow, level = this.levelDb, prefix = this.prefix, env = this.envDb;
+    const follow = this.follow, level = this.levelDb, prefix = this.prefix;
     const scale = 1 / (2 * this.channels);
     const att = this.attackCoeff, rel = this.releaseCoeff;
     // Power per bin, summed over channels: for a packed pair Z = L + jR,
@@ -300,7 +298,6 @@ export class ResonanceTamer implements Processor, GainReductionSource {
       const below = (prefix[gl[k]] - prefix[fl[k]]) / (gl[k] - fl[k]);
       const above = (prefix[fh[k] + 1] - prefix[gh[k] + 1]) / (fh[k] - gh[k]);
       const e = 0.5 * (below + above);
-      env[k] = e;
       const excess = level[k] - e - th;
       raw[k] = excess <= 0 ? 0 : excess < maxCut ? excess : maxCut;
     }
