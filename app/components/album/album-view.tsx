@@ -275,7 +275,13 @@ function AlbumPlayer({ album }: { album: AlbumData }) {
       <ol className="flex flex-wrap gap-2 text-xs">
         {items.map((it, i) => (
           <li key={it.url}>
-            <button type="button" className={`rounded px-2 py-1 ${i === current && !inGap ? "bg-accent-wash text-accent-deep" : "hover:bg-paper-deep"}`} onClick={() => engine.current?.seek(it.startS)}>
+            <button
+              type="button"
+              data-start-s={it.startS}
+              data-end-s={it.startS + it.durationS}
+              className={`rounded px-2 py-1 ${i === current && !inGap ? "bg-accent-wash text-accent-deep" : "hover:bg-paper-deep"}`}
+              onClick={() => engine.current?.seek(it.startS)}
+            >
               <span className="num">{formatClock(it.startS).replace(/\.\d$/, "")}</span> {it.title}
             </button>
           </li>
