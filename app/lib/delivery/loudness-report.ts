@@ -41,6 +41,46 @@ export interface ReportRow {
 export interface LoudnessReport {
   references: NormalisationReference[];
   rows: ReportRow[];
+  /** The album as a whole: its masters in running order with their gaps (absent when not measured). */
+  album?: AlbumReportRow | null;
+}
+
+/**
+ * The album row: integrated loudness and loudness range of the masters played
+ * in order with their gaps (BS.1770-4 gating across the whole album, see
+ * dsp/album.ts), the highest true peak of any master, PLR from those two.
+ */
+export interface AlbumReportRow {
+  trackCount: number;
+  durationS: number;
+  integratedLufs: number | null;
+  loudnessRangeLu: number | null;
+  truePeakDbtp: number | null;
+  plrDb: number | null;
+  turnDownDb: (number | null)[];
+  note: string | null;
+}
+
+export function withAlbumRow(
+  report: LoudnessReport,
+  album: { trackCount: number; durationS: number; integratedLufs: number; loudnessRangeLu: number; truePeakDbtp: number | null; note?: string | null } | null,
+): LoudnessReport {
+  if (!album) return { ...report, album: null };
+  const integrated = finite(album.integratedLufs);
+  const truePeak = finite(album.truePeakDbtp ?? undefined);
+  return {
+    ...report,
+    album: {
+      trackCount: album.trackCount,
+      durationS: album.durationS,
+      integratedLufs: integrated,
+      loudnessRangeLu: finite(album.loudnessRangeLu),
+      truePeakDbtp: truePeak,
+      plrDb: integrated !== null && truePeak !== null ? truePeak - integrated : null,
+      turnDownDb: report.references.map((r) => (integrated === null ? null : turnDownDb(integrated, r.lufs))),
+      note: album.note ?? null,
+    },
+  };
 }
 
 const finite = (v: number | undefined): number | null => (typeof v === "number" && Number.isFinite(v) ? v : null);
@@ -99,5 +139,20 @@ export function loudnessReportCsv(report: LoudnessReport): string {
     ...r.turnDownDb.map((v) => round(v, 1)),
     r.warnings.join("; "),
   ]);
+  const a = report.album;
+  if (a) {
+    rows.push([
+      "Album",
+      `${a.trackCount} tracks, masters with gaps, ${Math.floor(a.durationS / 60)}:${String(Math.round(a.durationS % 60)).padStart(2, "0")}`,
+      "",
+      "album",
+      round(a.integratedLufs, 1),
+      round(a.loudnessRangeLu, 1),
+      round(a.truePeakDbtp, 2),
+      round(a.plrDb, 1),
+      ...a.turnDownDb.map((v) => round(v, 1)),
+      a.note ?? "",
+    ]);
+  }
   return toCsv([header, ...rows]);
 }
