@@ -132,4 +132,34 @@ export function pinkNoise(frames: number, seed: number, scale = 1): Float64Array
     b6 = white * 0.115926;
   }
   return out;
+
+ * Linear-phase low-pass (Kaiser-windowed sinc, 257 taps, β 8, cutoff
+ * 0.44·fs): flat to about 0.43·fs and about 80 dB down from 0.45·fs, as a
+ * converter's decimation filter leaves recorded sound. Zero-padded edges.
+ */
+export function bandLimited(x: Float64Array, cutoff = 0.44): Float64Array {
+  const half = 128, beta = 8;
+  const i0 = (v: number) => {
+    let s = 1, t = 1;
+    for (let k = 1; k < 60; k++) {
+      t *= (v / (2 * k)) ** 2;
+      s += t;
+    }
+    return s;
+  };
+  const h = new Float64Array(2 * half + 1);
+  let sum = 0;
+  for (let n = -half; n <= half; n++) {
+    const s = n === 0 ? 2 * cutoff : Math.sin(2 * Math.PI * cutoff * n) / (Math.PI * n);
+    const r = n / (half + 1);
+    sum += h[n + half] = (s * i0(beta * Math.sqrt(1 - r * r))) / i0(beta);
+  }
+  const y = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) {
+    let acc = 0;
+    const lo = Math.max(-half, i - x.length + 1), hi = Math.min(half, i);
+    for (let k = lo; k <= hi; k++) acc += h[k + half] * x[i - k];
+    y[i] = acc / sum;
+  }
+  return y;
 }

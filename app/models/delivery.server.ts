@@ -156,7 +156,7 @@ export async function latestDeliveries(releaseId: string, conn: Conn = db): Prom
     formatId: r.format_id,
     storageKey: r.storage_key,
     sizeBytes: Number(r.size_bytes),
-    analysis: { integratedLufs: measure(r.analysis?.integratedLufs), loudnessRangeLu: measure(r.analysis?.loudnessRangeLu), truePeakDbtp: measure(r.analysis?.truePeakDbtp) },
+    analysis: { integratedLufs: measure(r.analysis?.integratedLufs), loudnessRangeLu: measure(r.analysis?.loudnessRangeLu), truePeakDbtp: measure(r.analysis?.truePeakDbtp), reconstructedPeakDb: measure(r.analysis?.reconstructedPeakDb) },
     warnings: r.warnings,
   }));
 }

@@ -66,6 +66,7 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
             { label: "Integrated (LUFS)", align: "right" },
             { label: "LRA (LU)", align: "right" },
             { label: "True peak (dBTP)", align: "right" },
+            { label: "Reconstructed peak (dBFS)", align: "right" },
             { label: "PLR (dB)", align: "right" },
             ...report.references.map((r) => ({
               label: (
@@ -87,6 +88,7 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
               <td className="num text-right">{fixed(row.integratedLufs, 1)}</td>
               <td className="num text-right">{fixed(row.loudnessRangeLu, 1)}</td>
               <td className="num text-right">{fixed(row.truePeakDbtp, 2)}</td>
+              <td className="num text-right">{fixed(row.reconstructedPeakDb, 2)}</td>
               <td className="num text-right">{fixed(row.plrDb, 1)}</td>
               {row.turnDownDb.map((v, i) => (
                 <td key={report.references[i]!.name} className="num text-right">

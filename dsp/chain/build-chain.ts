@@ -6,7 +6,7 @@
 import { Compressor } from "../dynamics/compressor.ts";
 import { MultibandCompressor } from "../dynamics/multiband.ts";
 import { Limiter } from "../limit/limiter.ts";
-import { TruePeakDetector } from "../loudness/true-peak.ts";
+import { CeilingPeakDetector } from "../limit/ceiling-detector.ts";
 import type { GainReductionSource, Processor } from "../processor.ts";
 import { ResonanceTamer } from "../resonance/resonance.ts";
 import { Saturator } from "../saturate/saturator.ts";
@@ -76,7 +76,7 @@ export function buildChain(chain: Chain, sampleRate: number, channels: number, m
         break;
       }
       case "limit": {
-        const detector = stage.truePeak ? new TruePeakDetector(sampleRate, channels, maxBlockFrames) : null;
+        const detector = stage.truePeak ? new CeilingPeakDetector(sampleRate, channels, maxBlockFrames) : null;
         const settings = index === lastLimit ? { ...stage, inputGainDb: stage.inputGainDb + extraGainDb } : stage;
         const l = new Limiter(sampleRate, channels, settings, maxBlockFrames, detector);
         processor = l;

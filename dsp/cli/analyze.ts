@@ -13,6 +13,7 @@ export interface AnalyzeReport {
   integratedLufs: number | null;
   loudnessRangeLu: number;
   truePeakDbtp: number | null;
+  reconstructedPeakDb: number | null;
   samplePeakDbfs: number | null;
   maxMomentaryLufs: number | null;
   maxShortTermLufs: number | null;
@@ -40,6 +41,7 @@ export function toReport(a: FileAnalysis): AnalyzeReport {
     integratedLufs: level(a.integratedLufs, "integratedLufs"),
     loudnessRangeLu: round(a.loudnessRangeLu, 2),
     truePeakDbtp: level(a.truePeakDbtp, "truePeakDbtp"),
+    reconstructedPeakDb: level(a.reconstructedPeakDb, "reconstructedPeakDb"),
     samplePeakDbfs: level(a.samplePeakDbfs, "samplePeakDbfs"),
     maxMomentaryLufs: level(a.maxMomentaryLufs, "maxMomentaryLufs"),
     maxShortTermLufs: level(a.maxShortTermLufs, "maxShortTermLufs"),

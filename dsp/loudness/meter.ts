@@ -9,6 +9,7 @@
 // the result. Channel weights: 1.0 for left, right and mono.
 
 import { kWeightingCoeffs } from "./k-weighting.ts";
+import { ReconstructedPeakDetector } from "./reconstruct-peak.ts";
 import { TruePeakDetector } from "./true-peak.ts";
 import { type ThirdOctaveBand, ThirdOctaveAnalyzer } from "../spectrum/third-octave.ts";
 
@@ -17,6 +18,8 @@ export interface LoudnessAnalysis {
   loudnessRangeLu: number;
   /** NaN when the meter was built with truePeak: false. */
   truePeakDbtp: number;
+  /** Peak of the waveform reconstructed on an 8× grid, flat to 0.45·fs (reconstruct-peak.ts); NaN with truePeak: false. */
+  reconstructedPeakDb: number;
   samplePeakDbfs: number;
   maxMomentaryLufs: number;
   maxShortTermLufs: number;
@@ -113,8 +116,10 @@ export class LoudnessMeter {
   private readonly weights: Float64Array;
   private readonly ring: Float64Array; // weighted energy of the last shortTermSteps grid steps
   private readonly truePeak: TruePeakDetector | null;
+  private readonly reconstructed: ReconstructedPeakDetector | null;
   private readonly tpChunk: Float64Array[];
   private readonly spectrum: ThirdOctaveAnalyzer | null;
+  private readonly tail: Float64Array[]; // silence after the end, for the reconstruction's last points
   private stepFill = 0;
   private stepCount = 0;
   private samplePeak = 0;
@@ -152,6 +157,8 @@ export class LoudnessMeter {
     this.ring = new Float64Array(this.shortTermSteps);
     const wantTruePeak = options.truePeak ?? true;
     this.truePeak = wantTruePeak ? new TruePeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
+    this.reconstructed = wantTruePeak ? new ReconstructedPeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
+    this.tail = wantTruePeak ? Array.from({ length: channels }, () => new Float64Array(this.reconstructed!.latencyFrames)) : [];
     this.tpChunk = [];
     this.history = options.history ?? true;
     this.spectrum = options.spectrum ? new ThirdOctaveAnalyzer(sampleRate, channels) : null;
@@ -178,6 +185,7 @@ export class LoudnessMeter {
     this.ring.fill(0);
     this.truePeak?.reset();
     this.spectrum?.reset();
+    this.reconstructed?.reset();
     this.stepFill = 0;
     this.stepCount = 0;
     this.samplePeak = 0;
@@ -197,6 +205,7 @@ export class LoudnessMeter {
         const n = Math.min(TRUE_PEAK_CHUNK_FRAMES, frames - start);
         for (let ch = 0; ch < this.channels; ch++) this.tpChunk[ch] = channels[ch].subarray(start, start + n);
         this.truePeak.process(this.tpChunk, n);
+        this.reconstructed!.process(this.tpChunk, n);
       }
     }
     this.spectrum?.process(channels, frames);
@@ -336,6 +345,13 @@ export class LoudnessMeter {
 
   result(): LoudnessAnalysis {
     const tp = this.truePeak ? Math.max(this.truePeak.maxAbs, this.samplePeak) : NaN;
+    let reconstructed = NaN;
+    if (this.reconstructed) {
+      // The last frames' points need the frames after them: read them as the file followed by silence, on a copy.
+      const probe = this.reconstructed.snapshot();
+      probe.process(this.tail, this.reconstructed.latencyFrames);
+      reconstructed = Math.max(probe.maxAbs, this.samplePeak);
+    }
     let correlation = 1;
     if (this.channels === 2) {
       const denom = Math.sqrt(this.sumLL * this.sumRR);
@@ -345,6 +361,7 @@ export class LoudnessMeter {
       integratedLufs: gatedLoudness(this.momentaryBlocks.view(), INTEGRATED_RELATIVE_GATE_LU).lufs,
       loudnessRangeLu: loudnessRange(this.shortTermBlocks.view()),
       truePeakDbtp: this.truePeak ? 20 * Math.log10(tp) : NaN,
+      reconstructedPeakDb: 20 * Math.log10(reconstructed),
       samplePeakDbfs: 20 * Math.log10(this.samplePeak),
       maxMomentaryLufs: powerToLufs(this.maxMomentaryPower),
       maxShortTermLufs: powerToLufs(this.maxShortTermPower),
