@@ -132,7 +132,9 @@ export function pinkNoise(frames: number, seed: number, scale = 1): Float64Array
     b6 = white * 0.115926;
   }
   return out;
+}
 
+/**
  * Linear-phase low-pass (Kaiser-windowed sinc, 257 taps, β 8, cutoff
  * 0.44·fs): flat to about 0.43·fs and about 80 dB down from 0.45·fs, as a
  * converter's decimation filter leaves recorded sound. Zero-padded edges.
