@@ -36,6 +36,8 @@ import type { TrimStage as TrimStageProcessor } from "../chain/trim-stage.ts";
 import { compressorLiveChangeable, type Compressor } from "../dynamics/compressor.ts";
 import type { MultibandCompressor } from "../dynamics/multiband.ts";
 import type { Limiter } from "../limit/limiter.ts";
+import type { ResonanceTamer } from "../resonance/resonance.ts";
+import type { TapeStage as TapeStageProcessor } from "../tape/tape.ts";
 import type { GainReductionSource, Planar, Processor } from "../processor.ts";
 import type { Saturator } from "../saturate/saturator.ts";
 import { pushStage } from "./push.ts";
@@ -180,6 +182,14 @@ function liveChangeable(built: Stage, next: Stage, sampleRate: number): boolean 
       const n = next as typeof built;
       return built.lookaheadMs === n.lookaheadMs && built.truePeak === n.truePeak;
     }
+    case "resonance": {
+      const n = next as typeof built;
+      return built.lowHz === n.lowHz && built.highHz === n.highHz;
+    }
+    case "tape": {
+      const n = next as typeof built;
+      return built.oversample === n.oversample && (built.rolloffHz === null) === (n.rolloffHz === null);
+    }
   }
 }
 
@@ -310,6 +320,12 @@ export class LiveChain {
         break;
       case "limit":
         (p as Limiter).setSettings(sr, s);
+        break;
+      case "resonance":
+        (p as ResonanceTamer).setSettings(sr, s);
+        break;
+      case "tape":
+        (p as TapeStageProcessor).setSettings(sr, s);
         break;
     }
   }

@@ -12,6 +12,9 @@ export const PUSH = {
   saturateDriveDb: 12,
   limitInputGainDb: 6,
   trimGainFactor: 2,
+  resonanceThresholdDb: -6,
+  resonanceMaxCutDb: 6,
+  tapeDriveDb: 12,
 } as const;
 
 /** What Push does per stage type (help text for the desk). */
@@ -22,6 +25,8 @@ export const PUSH_DESCRIPTIONS: Record<Stage["type"], string> = {
   compress: "Lowers the threshold by 12 dB, so the compressor works much harder.",
   multiband: "Lowers every band's threshold by 12 dB.",
   limit: "Adds 6 dB of input gain into the limiter, against the same ceiling.",
+  resonance: "Lowers the threshold by 6 dB and allows 6 dB more cut, so every build-up it catches is pulled down hard.",
+  tape: "Adds 12 dB of drive into the tape curve (level-compensated), so its colour turns to crunch.",
 };
 
 /** The pushed copy of a stage's settings (a new object; `stage` is not changed). */
@@ -39,5 +44,10 @@ export function pushStage(stage: Stage): Stage {
       return { ...stage, bands: stage.bands.map((b) => ({ ...b, thresholdDb: b.thresholdDb + PUSH.multibandThresholdDb })) };
     case "limit":
       return { ...stage, inputGainDb: stage.inputGainDb + PUSH.limitInputGainDb };
+    // Pushed values stay inside the schema's ranges (threshold 0–24 dB, cut 0–24 dB, drive 0–24 dB).
+    case "resonance":
+      return { ...stage, thresholdDb: Math.max(0, stage.thresholdDb + PUSH.resonanceThresholdDb), maxCutDb: Math.min(24, stage.maxCutDb + PUSH.resonanceMaxCutDb) };
+    case "tape":
+      return { ...stage, driveDb: Math.min(24, stage.driveDb + PUSH.tapeDriveDb) };
   }
 }

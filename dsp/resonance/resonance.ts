@@ -96,12 +96,12 @@ export class ResonanceTamer implements Processor, GainReductionSource {
   private readonly smoothCut: Float64Array; // the cut per bin before blend (dB)
   private readonly cutOut: Float64Array;
   private readonly gain: Float64Array; // the spectral gain per bin (0..N/2)
-  private readonly attackCoeff: number;
-  private readonly releaseCoeff: number;
-  private readonly thresholdDb: number;
-  private readonly maxCutDb: number;
-  private readonly blend: number;
-  private readonly removed: boolean;
+  private attackCoeff: number;
+  private releaseCoeff: number;
+  private thresholdDb: number;
+  private maxCutDb: number;
+  private blend: number;
+  private removed: boolean;
   private frameMaxCutDb = 0;
   private heldCutDb = 0;
 
@@ -150,6 +150,18 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.cutOut = new Float64Array(half + 1);
     this.gain = new Float64Array(half + 1).fill(1);
 
+    this.attackCoeff = this.releaseCoeff = this.thresholdDb = this.maxCutDb = this.blend = 0;
+    this.removed = false;
+    this.setSettings(sampleRate, settings);
+    this.resetGains();
+  }
+
+  /**
+   * Live change (the desk) of everything but the focus range, which sizes the
+   * bin tables: detector times, threshold, depth, blend and listen take effect
+   * at the next hop, with the gains' own smoothing; allocates nothing.
+   */
+  setSettings(sampleRate: number, settings: ResonanceSettings): void {
     const hopS = this.hop / sampleRate;
     this.attackCoeff = Math.exp(-hopS / Math.max(1e-6, settings.attackMs / 1000));
     this.releaseCoeff = Math.exp(-hopS / Math.max(1e-6, settings.releaseMs / 1000));
@@ -157,7 +169,6 @@ export class ResonanceTamer implements Processor, GainReductionSource {
     this.maxCutDb = Math.max(0, settings.maxCutDb);
     this.blend = Math.min(1, Math.max(0, settings.blend));
     this.removed = settings.listen === "removed";
-    this.resetGains();
   }
 
   reset(): void {

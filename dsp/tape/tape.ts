@@ -133,19 +133,29 @@ export class TapeStage implements Processor, GainReductionSource {
     void maxBlockFrames; // the fused kernels need no buffers
     this.kernel = new TapeKernel(settings.oversample, channels);
     this.latencyFrames = this.kernel.latencyFrames;
+    this.params = { drive: 1, emphasisK: 0, dryGain: 1, wetGain: 0, bump: new Float64Array(5), loss: new Float64Array(3) };
+    this.setSettings(sampleRate, settings);
+  }
+
+  /**
+   * Live change (the desk): every setting but the oversampling factor, which
+   * sizes the kernel. The filter states are kept; the desk glides the values.
+   */
+  setSettings(sampleRate: number, settings: TapeSettings): void {
     const drive = curveDrive(settings.driveDb);
     const blend = clampBlend(settings.blend);
     const bump = designBump(settings, sampleRate);
     const loss = designLoss(settings.rolloffHz, sampleRate);
-    this.params = {
-      drive,
-      // Backward-difference emphasis 1 + τ·fs·(1 − z⁻¹), τ = 1/(2π·EMPHASIS_HZ), at the high rate.
-      emphasisK: (settings.oversample * sampleRate) / (2 * Math.PI * EMPHASIS_HZ),
-      dryGain: 1 - blend,
-      wetGain: (blend * wetCompensation(settings.driveDb)) / drive,
-      bump: bump ? Float64Array.from([bump.b0, bump.b1, bump.b2, bump.a1, bump.a2]) : Float64Array.from([1, 0, 0, 0, 0]),
-      loss: loss ? Float64Array.from(loss) : Float64Array.from([1, 0, 0]),
-    };
+    const p = this.params;
+    p.drive = drive;
+    // Backward-difference emphasis 1 + τ·fs·(1 − z⁻¹), τ = 1/(2π·EMPHASIS_HZ), at the high rate.
+    p.emphasisK = (settings.oversample * sampleRate) / (2 * Math.PI * EMPHASIS_HZ);
+    p.dryGain = 1 - blend;
+    p.wetGain = (blend * wetCompensation(settings.driveDb)) / drive;
+    if (bump) p.bump.set([bump.b0, bump.b1, bump.b2, bump.a1, bump.a2]);
+    else p.bump.set([1, 0, 0, 0, 0]);
+    if (loss) p.loss.set(loss);
+    else p.loss.set([1, 0, 0]);
   }
 
   reset(): void {

@@ -12,7 +12,10 @@ import {
   LIMIT_FIELDS,
   MAX_CROSSOVERS,
   MULTIBAND_FIELDS,
+  RESONANCE_FIELDS,
+  RESONANCE_LISTEN,
   SATURATE_FIELDS,
+  TAPE_FIELDS,
   TRIM_FIELDS,
   type FieldRange,
 } from "../../../dsp/chain/fields.ts";
@@ -37,6 +40,8 @@ export const OPTION_LABELS: Record<string, string> = {
   side: "Side",
   left: "Left",
   right: "Right",
+  output: "Output",
+  removed: "Removed only",
 };
 
 const grid = "grid grid-cols-2 gap-x-3 gap-y-2 sm:grid-cols-3";
@@ -285,6 +290,41 @@ function StageFields({ ctx, index, stage, store }: { ctx: Ctx; index: number; st
           <Select ctx={ctx} path={[...path, "oversample"]} label="Oversampling (×)" value={stage.oversample ?? 4} options={[2, 4]} />
         </div>
       );
+    case "resonance": {
+      const f = RESONANCE_FIELDS;
+      return (
+        <div className="space-y-2">
+          <div className={grid}>
+            <Num ctx={ctx} path={[...path, "lowHz"]} range={f.lowHz} value={stage.lowHz} />
+            <Num ctx={ctx} path={[...path, "highHz"]} range={f.highHz} value={stage.highHz} />
+            <Num ctx={ctx} path={[...path, "thresholdDb"]} range={f.thresholdDb} value={stage.thresholdDb} />
+            <Num ctx={ctx} path={[...path, "maxCutDb"]} range={f.maxCutDb} value={stage.maxCutDb} />
+            <Num ctx={ctx} path={[...path, "attackMs"]} range={f.attackMs} value={stage.attackMs} />
+            <Num ctx={ctx} path={[...path, "releaseMs"]} range={f.releaseMs} value={stage.releaseMs} />
+            <Num ctx={ctx} path={[...path, "blend"]} range={f.blend} value={stage.blend} />
+            <Select ctx={ctx} path={[...path, "listen"]} label="Listen to" value={stage.listen ?? "output"} options={RESONANCE_LISTEN} />
+          </div>
+          {stage.listen === "removed" && (
+            <p className="text-sm text-ink-soft" data-testid="listen-removed-note">
+              Listening to what the stage removes is for previews and the desk; a print of this revision will be refused.
+            </p>
+          )}
+        </div>
+      );
+    }
+    case "tape": {
+      const f = TAPE_FIELDS;
+      return (
+        <div className={grid}>
+          <Num ctx={ctx} path={[...path, "driveDb"]} range={f.driveDb} value={stage.driveDb} />
+          <Num ctx={ctx} path={[...path, "bumpHz"]} range={f.bumpHz} value={stage.bumpHz} />
+          <Num ctx={ctx} path={[...path, "bumpDb"]} range={f.bumpDb} value={stage.bumpDb} />
+          <OptionalNumber ctx={ctx} path={[...path, "rolloffHz"]} range={f.rolloffHz} value={stage.rolloffHz} off={null} offLabel="none" />
+          <Num ctx={ctx} path={[...path, "blend"]} range={f.blend} value={stage.blend} />
+          <Select ctx={ctx} path={[...path, "oversample"]} label="Oversampling (×)" value={stage.oversample ?? 4} options={[2, 4]} />
+        </div>
+      );
+    }
     case "compress":
       return <CompressFields ctx={ctx} path={path} values={stage} />;
     case "multiband":
@@ -310,7 +350,7 @@ function StageFields({ ctx, index, stage, store }: { ctx: Ctx; index: number; st
 }
 
 /** Stage types whose single gain-reduction trace the strip shows. */
-const ONE_TRACE = new Set(["compress", "limit"]);
+const ONE_TRACE = new Set(["compress", "limit", "resonance", "tape"]);
 
 export function StageStrip({
   ctx,
