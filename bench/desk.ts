@@ -10,6 +10,7 @@
 // Figures only, no pass/fail. Run: npm run bench -- desk
 // (DESK_BENCH_PLAY_S=N for a shorter play.)
 
+import { buildChain } from "../dsp/chain/build-chain.ts";
 import { createWavWriter } from "../dsp/io/wav-writer.ts";
 import { DeskCore } from "../dsp/live/desk-core.ts";
 import { musicLike } from "../dsp/live/live.test-util.ts";
@@ -39,7 +40,7 @@ export async function run(): Promise<void> {
     const region = { startS: PREROLL_S, endS: PREROLL_S + REGION_S };
     const frames = REGION_S * SR;
     console.log(`load average ${loadavg().map((l) => l.toFixed(2)).join(" ")} (shared machine: figures are noisy)`);
-    const browserX: number[] = [], nodeX: number[] = [];
+    const browserX: number[] = [], nodeX: number[] = [], chainX: number[] = [];
     for (let i = 0; i < 3; i++) {
       // Alternated: the worklet in chromium, then the same DeskCore in Node.
       const r = await harness.offline("/mix.wav", region, chain, frames);
@@ -52,11 +53,23 @@ export async function run(): Promise<void> {
       const t0 = performance.now();
       for (let f = 0; f < frames; f += 128) core.process(out, 128);
       nodeX.push(REGION_S / ((performance.now() - t0) / 1000));
+      // The chain alone (buildChain, 128-frame blocks), for the desk's own overhead.
+      const built = buildChain(chain, SR, 2, 128);
+      const buf = [new Float64Array(128), new Float64Array(128)];
+      const base = PREROLL_S * SR;
+      const t1 = performance.now();
+      for (let f = 0; f < frames; f += 128) {
+        for (let c = 0; c < 2; c++) for (let i = 0; i < 128; i++) buf[c][i] = audio[c][base + f + i];
+        for (const s of built.stages) s.processor.process(buf, 128);
+      }
+      chainX.push(REGION_S / ((performance.now() - t1) / 1000));
     }
     const med = (x: number[]) => [...x].sort((a, b) => a - b)[Math.floor(x.length / 2)];
     console.log(`desk worklet, bench chain, 48 kHz stereo, ${REGION_S} s region (OfflineAudioContext): ${browserX.map((x) => x.toFixed(1)).join(", ")} × real time (median ${med(browserX).toFixed(1)}×; target ≥ 20×)`);
     console.log(`same DeskCore in Node (meters, Match, clamp included):                 ${nodeX.map((x) => x.toFixed(1)).join(", ")} × real time (median ${med(nodeX).toFixed(1)}×)`);
+    console.log(`the chain alone (buildChain) in Node:                                    ${chainX.map((x) => x.toFixed(1)).join(", ")} × real time (median ${med(chainX).toFixed(1)}×)`);
     const playS = Number(process.env.DESK_BENCH_PLAY_S ?? 60);
+    if (!(playS > 0)) return;
     const live = await harness.live("/mix.wav", region, chain, playS);
     console.log(`real-time play in headless chromium, ${playS} s at ${live.sampleRate} Hz: ${live.droppedBlocks} dropped blocks, ${live.lateBlocks} late blocks (target 0), ${live.meters} meter snapshots (${(live.meters / playS).toFixed(1)}/s), last momentary ${live.momentaryLufs.toFixed(1)} LUFS`);
   } finally {
