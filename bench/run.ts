@@ -5,7 +5,7 @@
 import { existsSync } from "node:fs";
 import { join } from "node:path";
 
-const MODULES = ["analysis", "chain", "pipeline", "delivery"];
+const MODULES = ["analysis", "chain", "pipeline", "delivery", "desk"];
 
 const wanted = process.argv.slice(2);
 for (const name of MODULES) {

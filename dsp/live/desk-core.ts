@@ -78,6 +78,7 @@ export class DeskCore {
   private bypassFade = 0;
   private match = true;
   private matchCurDb = 0;
+  private matchSeen = false;
   private matchCmpDb = 0;
   private gainCur = 1;
   private gainCmp = 1;
@@ -93,7 +94,6 @@ export class DeskCore {
   private readonly meterIn: LoudnessMeter;
   private readonly meterCur: LoudnessMeter;
   private readonly meterCmp: LoudnessMeter;
-  private readonly meterHeard: LoudnessMeter;
   private readonly truePeak: TruePeakDetector;
   private readonly peaks: Float64Array;
   private truePeakMax = 0;
@@ -106,7 +106,7 @@ export class DeskCore {
   private readonly corrCoeff: number;
   private readonly gating = new Float64Array(MAX_GATING_BLOCKS);
   private gatingCount = 0;
-  private lastHeardStep = 0;
+  private framesTo100Ms = 0;
   private integratedLufs = -Infinity;
   private grArrays: Float64Array[] = [];
   private readonly grNow = new Float64Array(MAX_TRACES);
@@ -144,7 +144,6 @@ export class DeskCore {
     this.meterIn = meter();
     this.meterCur = meter();
     this.meterCmp = meter();
-    this.meterHeard = meter();
     this.truePeak = new TruePeakDetector(o.sampleRate, o.channels, this.maxBlockFrames);
     this.peaks = new Float64Array(this.maxBlockFrames);
     this.corrCoeff = Math.exp(-1 / (CORRELATION_TIME_S * o.sampleRate));
@@ -236,7 +235,11 @@ export class DeskCore {
       this.runChains(n);
       left -= n;
     }
-    this.matchCurDb = this.matchTarget(this.meterCur, this.matchCurDb);
+    const t = this.matchTarget(this.meterCur, NaN);
+    if (!Number.isNaN(t)) {
+      this.matchCurDb = t;
+      if (this.meterCur.steps * this.meterCur.gridMs >= 1000) this.matchSeen = true;
+    }
     this.matchCmpDb = this.matchTarget(this.meterCmp, this.matchCmpDb);
   }
 
@@ -294,7 +297,13 @@ export class DeskCore {
 
     // Match: both offsets move all the time (one-pole in dB), so every switch is matched at once.
     const a = Math.exp(-frames / (MATCH_TIME_CONSTANT_S * this.sampleRate));
-    this.matchCurDb = a * this.matchCurDb + (1 - a) * this.matchTarget(this.meterCur, this.matchCurDb);
+    const curTarget = this.matchTarget(this.meterCur, NaN);
+    if (!Number.isNaN(curTarget)) {
+      // The first measurable offset is taken as it is (nothing to smooth from yet), then it moves slowly.
+      // Over the first second the output's window still lags the input's by the chain latency: follow at once.
+      this.matchCurDb = this.matchSeen ? a * this.matchCurDb + (1 - a) * curTarget : curTarget;
+      if (this.meterCur.steps * this.meterCur.gridMs >= 1000) this.matchSeen = true;
+    }
     if (this.compare) {
       const cmpRef = this.match ? this.matchTarget(this.meterCmp, this.matchCmpDb) : this.meterCur.shortTermLufs - this.meterCmp.shortTermLufs;
       this.matchCmpDb = a * this.matchCmpDb + (1 - a) * (Number.isFinite(cmpRef) ? cmpRef : this.matchCmpDb);
@@ -326,9 +335,11 @@ export class DeskCore {
     this.gainCur = gCur;
     this.gainCmp = gCmp;
     // What is heard before Match is metered: the selected chain, or the input under Bypass all.
+    // Loudness comes from that source's own meter (heardMeter); true peak and overs here. Frames at
+    // or under both the maximum so far and the overs threshold need not be exact (they can change
+    // neither), which lets the detector skip quiet stretches as the limiter's does.
     const metered = this.bypassAll ? this.dryWork : this.cmpWork;
-    this.meterHeard.process(frames === this.maxBlockFrames ? metered : metered.map((x) => x.subarray(0, frames)), frames);
-    this.truePeak.processPerFrame(metered, frames, this.peaks);
+    this.truePeak.processPerFrame(metered, frames, this.peaks, Math.min(this.truePeakMax, this.oversAbove));
     const above = this.oversAbove, cc = this.corrCoeff;
     let ll = this.sumLL, rr = this.sumRR, lr = this.sumLR, over = this.overState;
     const mL = metered[0], mR = metered[nch > 1 ? 1 : 0];
@@ -357,6 +368,14 @@ export class DeskCore {
       }
     }
     this.updateGr();
+    this.framesTo100Ms -= frames;
+    if (this.framesTo100Ms <= 0) {
+      this.framesTo100Ms += Math.round(this.sampleRate / 10);
+      const heard = this.heardMeter;
+      const lufs = heard.momentaryLufs;
+      // Only whole 400 ms blocks (a meter younger than that pads its window with silence).
+      if (heard.steps * heard.gridMs >= 400 && this.gatingCount < MAX_GATING_BLOCKS && lufs > -70) this.gating[this.gatingCount++] = 10 ** ((lufs - LOUDNESS_OFFSET_DB) / 10);
+    }
     return this.tick(frames);
   }
 
@@ -381,15 +400,14 @@ export class DeskCore {
     return true;
   }
 
+  /** The meter of what is heard (before Match): the input under Bypass all, else the chain listened to. */
+  private get heardMeter(): LoudnessMeter {
+    return this.bypassAll ? this.meterIn : this.listenCompare && this.compare ? this.meterCmp : this.meterCur;
+  }
+
   private integrated(): number {
-    // BS.1770-4: absolute gate −70 LUFS, relative gate −10 LU, on 400 ms blocks every 100 ms.
-    const steps = this.meterHeard.steps;
-    const stepsPer100 = Math.round(100 / this.meterHeard.gridMs);
-    while (this.lastHeardStep + stepsPer100 <= steps) {
-      this.lastHeardStep += stepsPer100;
-      const lufs = this.meterHeard.momentaryLufs;
-      if (this.gatingCount < MAX_GATING_BLOCKS && lufs > -70) this.gating[this.gatingCount++] = 10 ** ((lufs - LOUDNESS_OFFSET_DB) / 10);
-    }
+    // BS.1770-4: absolute gate −70 LUFS, relative gate −10 LU, on 400 ms blocks every 100 ms
+    // (the momentary loudness of what was heard at each 100 ms step since play).
     const n = this.gatingCount;
     if (n === 0) return -Infinity;
     let sum = 0;
@@ -411,8 +429,8 @@ export class DeskCore {
     m[M.seq] = ++this.seq * 2 - 1;
     m[M.playing] = this.playing ? 1 : 0;
     m[M.positionS] = this.positionS;
-    m[M.momentaryLufs] = this.meterHeard.momentaryLufs;
-    m[M.shortTermLufs] = this.meterHeard.shortTermLufs;
+    m[M.momentaryLufs] = this.heardMeter.momentaryLufs;
+    m[M.shortTermLufs] = this.heardMeter.shortTermLufs;
     this.integratedLufs = this.integrated();
     m[M.integratedLufs] = this.integratedLufs;
     m[M.truePeakDbtp] = 20 * Math.log10(this.truePeakMax);
@@ -447,7 +465,7 @@ export class DeskCore {
     if (on && !this.playing) {
       // "Since play": integrated loudness, true peak and overs start again.
       this.gatingCount = 0;
-      this.lastHeardStep = this.meterHeard.steps;
+      this.framesTo100Ms = Math.round(this.sampleRate / 10);
       this.truePeakMax = 0;
       this.overs = 0;
     }
