@@ -121,3 +121,62 @@ test("an engineer listens at the desk, bypasses, pushes, edits and saves exactly
   const narrow = await page.screenshot({ path: "tests/artifacts/desk-375.png", fullPage: true });
   await testInfo.attach("desk at 375 px", { body: narrow, contentType: "image/png" });
 });
+
+test("the desk's keys, a soloed band asking before a save, a preview from the desk and settings compared live", async ({ page }) => {
+  test.setTimeout(300_000);
+  await signIn(page, DEMO_ENGINEER);
+  await page.getByRole("table", { name: "Releases" }).getByRole("link", { name: "Lowlight Weather" }).click();
+  await page.getByRole("link", { name: "Tin Roof Morning" }).first().click();
+  await page.getByRole("list", { name: "Chains of this track" }).getByRole("link", { name: /Open .* at the desk/ }).first().click();
+  await expect(page.getByTestId("desk")).toBeVisible({ timeout: 20_000 });
+  // The default region is the loudest 30 s of this 44 s mix, as previews choose it.
+  await expect(page.getByText(/Looping 0:0\d\.\d–0:\d\d\.\d of mix v1 \(the loudest 30 s\)/)).toBeVisible();
+
+  // Keys: ] selects the next stage, B bypasses it, [ goes back.
+  const strip = (n: number) => page.locator(`li[data-stage="${n}"]`);
+  await page.locator("body").click({ position: { x: 5, y: 5 } });
+  await page.keyboard.press("]");
+  await expect(strip(1)).toHaveAttribute("data-selected", "true");
+  await page.keyboard.press("b");
+  await expect(page.getByTestId("bypass-1")).toHaveAttribute("aria-pressed", "true");
+  await page.keyboard.press("b");
+  await expect(page.getByTestId("bypass-1")).toHaveAttribute("aria-pressed", "false");
+  // P tapped latches Push on the selected stage; tapped again, it lets go.
+  await page.keyboard.press("p");
+  await expect(strip(1).getByRole("button", { name: "Push stage 2" })).toHaveAttribute("aria-pressed", "true");
+  await page.keyboard.press("p");
+  await expect(strip(1).getByRole("button", { name: "Push stage 2" })).toHaveAttribute("aria-pressed", "false");
+  await page.keyboard.press("]");
+  await expect(strip(2)).toHaveAttribute("data-selected", "true");
+
+  // Compare settings against revision 1 while listening.
+  await page.getByRole("button", { name: "Listen", exact: true }).click();
+  const notice = page.getByTestId("monitoring-notice");
+  if (await notice.isVisible()) await page.getByRole("button", { name: "My level is safe — play" }).click();
+  await expect(page.getByRole("button", { name: "Pause", exact: true })).toBeVisible({ timeout: 60_000 });
+  await page.getByLabel("Compare with revision").selectOption({ label: "Revision 1" });
+  await page.getByRole("button", { name: "Listen to revision 1" }).click();
+  await expect(page.getByRole("button", { name: "Listen to revision 1" })).toHaveAttribute("aria-pressed", "true");
+  await page.getByRole("button", { name: "Listen to the current settings" }).click();
+  await expect(page.getByRole("button", { name: "Listen to the current settings" })).toHaveAttribute("aria-pressed", "true");
+  await page.getByRole("button", { name: "Pause", exact: true }).click();
+
+  // A soloed band asks before it is saved; released, the revision has no solo.
+  const band3 = strip(2).getByRole("group", { name: "Band 3" });
+  await band3.getByRole("button", { name: "Solo band 3" }).click();
+  await page.getByRole("button", { name: "Save as revision" }).click();
+  const question = page.getByRole("alertdialog").filter({ hasText: "soloed" });
+  await expect(question).toContainText("Stage 3 band 3 is soloed");
+  await question.getByRole("button", { name: "Release solo and save" }).click();
+  await expect(page.getByRole("status").filter({ hasText: /Saved as revision \d+/ })).toBeVisible({ timeout: 30_000 });
+  await expect(band3.getByRole("button", { name: "Solo band 3" })).toHaveAttribute("aria-pressed", "false");
+
+  // A preview of the desk's region, queued from the same settings (no new revision).
+  await page.getByRole("button", { name: "Render preview" }).click();
+  const queued = page.getByRole("status").filter({ hasText: /Preview of revision \d+ queued/ });
+  await expect(queued).toBeVisible({ timeout: 30_000 });
+  await expect(queued).not.toContainText("saved for it");
+  await queued.getByRole("link", { name: "follow it" }).click();
+  await expect(page.getByRole("heading", { level: 1 })).toBeVisible();
+  await expect(page).toHaveURL(/\/renders\/[0-9a-f-]{36}$/);
+});

@@ -77,14 +77,30 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
   const saver = useFetcher<{ errors?: Record<string, string>; formError?: string }>();
   const renderer = useFetcher<RenderResult>();
 
+  // The server's answer to the last save or render, until the next edit or the next saved revision
+  // (a fetcher keeps its last data when a later submission redirects).
+  const [answer, setAnswer] = useState<{ errors: Record<string, string>; formError?: string }>({ errors: serverErrors, formError });
+  useEffect(() => {
+    if (saver.data) setAnswer({ errors: saver.data.errors ?? {}, formError: saver.data.formError });
+  }, [saver.data]);
+  useEffect(() => {
+    if (renderer.data) setAnswer({ errors: renderer.data.errors ?? {}, formError: renderer.data.formError });
+  }, [renderer.data]);
+  useEffect(() => setAnswer({ errors: {} }), [saved, opened?.id]);
   const checked = useMemo(() => checkChain(chain), [chain]);
-  const errors = { ...(checked.ok ? {} : checked.errors), ...(saver.data?.errors ?? serverErrors), ...(renderer.data?.errors ?? {}) };
+  const errors = { ...(checked.ok ? {} : checked.errors), ...answer.errors };
   const heard = useRef<Chain | null>(checked.ok ? checked.chain : null);
   if (checked.ok) heard.current = checked.chain;
   const limiterIndex = chain.stages.map((s) => s.type).lastIndexOf("limit");
   const sampleRate = engine.current?.sampleRate ?? mix?.sampleRateHz ?? 48000;
 
-  const ctx: Ctx = { errors, set: (path: Path, value: unknown) => setChain((c) => setAt(c, path, value)) };
+  const ctx: Ctx = {
+    errors,
+    set: (path: Path, value: unknown) => {
+      setChain((c) => setAt(c, path, value));
+      if (Object.keys(answer.errors).length > 0 || answer.formError) setAnswer({ errors: {} });
+    },
+  };
 
   // Every valid change reaches the engine at once (it glides there).
   useEffect(() => {
@@ -544,12 +560,12 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
                 </div>
               </div>
             )}
-            {(saver.data?.formError || formError || (saver.data?.errors && Object.keys(saver.data.errors).length > 0)) && (
+            {(answer.formError || Object.keys(answer.errors).length > 0) && (
               <p className="text-sm text-danger" role="alert">
-                {saver.data?.formError ?? formError ?? "Not saved: correct the fields marked in the chain."}
+                {answer.formError ?? "Not saved: correct the fields marked in the chain."}
               </p>
             )}
-            {saved && saver.state === "idle" && !saver.data?.errors && (
+            {saved && saver.state === "idle" && Object.keys(answer.errors).length === 0 && (
               <p className="text-sm text-accent-deep" role="status">
                 Saved as revision <span className="num">{saved}</span>.
               </p>
@@ -562,11 +578,6 @@ export function Desk({ chainId, opened, revisions, mixes, mix, region: defaultRe
                   follow it
                 </Link>
                 .
-              </p>
-            )}
-            {renderer.data?.formError && (
-              <p className="text-sm text-danger" role="alert">
-                {renderer.data.formError}
               </p>
             )}
           </section>
