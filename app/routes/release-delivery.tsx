@@ -5,7 +5,9 @@
 // deliveries with their state and warnings. Staff only: clients get their
 // files from the release page. Deleting a format has a confirmation step;
 // what becomes of its files is app/models/release-formats.server.ts.
-import { data, Form, Link, redirect } from "react-router";
+import { useEffect } from "react";
+import { data, Form, Link, redirect, useRevalidator } from "react-router";
+import { fmt } from "../components/render/format.ts";
 import { z } from "zod";
 import type { Route } from "./+types/release-delivery";
 import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
@@ -63,7 +65,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     formats,
     ownFormats: own,
     deliveries: rows,
-    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.reason === null, printPending: p.printRecipe !== null, reason: p.reason })),
+    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.reason === null, reason: p.reason })),
   };
 }
 
@@ -128,6 +130,16 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
   // Field defaults: what was typed (after a refusal), else the format being edited.
   const initial = add?.values.name !== undefined ? add.values : editing ? { name: editing.name, sampleRate: String(editing.sampleRate), bitDepth: String(editing.bitDepth), dither: editing.dither, ceilingDbtp: String(editing.ceilingDbtp), targetLufs: editing.targetLufs === undefined ? "" : String(editing.targetLufs) } : undefined;
   const made = actionData?.intent === "make" ? actionData : undefined;
+  // While files are being made (or wait for their print), reload the page's data every 2 s, as the render page does.
+  const revalidator = useRevalidator();
+  const working = deliveries.some((d) => d.state === "queued" || d.state === "running");
+  useEffect(() => {
+    if (!working) return;
+    const timer = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 2000);
+    return () => clearInterval(timer);
+  }, [working, revalidator]);
   return (
     <>
       <PageHeader
@@ -258,7 +270,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
         {deliveries.length === 0 ? (
           <p className="card px-5 py-8 text-center text-ink-soft">No deliveries yet.</p>
         ) : (
-          <DataTable label="Deliveries" columns={[{ label: "Track" }, { label: "Format" }, { label: "State" }, { label: "Warnings" }]}>
+          <DataTable label="Deliveries" columns={[{ label: "Track" }, { label: "Format" }, { label: "State" }, { label: "Loudness" }, { label: "Warnings" }]}>
             {deliveries.map((d) => (
               <tr key={d.id}>
                 <td>
@@ -268,7 +280,16 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                   {d.formatName}
                   {!d.formatKept && <span className="block text-xs text-ink-soft">format deleted or changed · not in the package</span>}
                 </td>
-                <td>{d.state}</td>
+                <td data-delivery-state={d.state}>{d.state}</td>
+                <td className="num text-sm whitespace-nowrap">
+                  {d.state === "done" ? (
+                    <>
+                      {fmt(d.integratedLufs, "LUFS")} <span className="text-ink-faint">· {fmt(d.truePeakDbtp, "dBTP")}</span>
+                    </>
+                  ) : (
+                    "—"
+                  )}
+                </td>
                 <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
               </tr>
             ))}
