@@ -60,7 +60,7 @@ test.beforeAll(async () => {
 async function openRelease(page: Page): Promise<void> {
   await page.goto("/releases");
   await page.getByRole("link", { name: RELEASE }).first().click();
-  await expect(page.getByRole("heading", { name: RELEASE, level: 1 })).toBeVisible();
+  await expect(page.getByRole("heading", { name: RELEASE, level: 1 })).toBeVisible({ timeout: 30_000 });
 }
 
 test("staff upload a reference, compare against it, and play the album across a track boundary", async ({ page }) => {
@@ -76,21 +76,22 @@ test("staff upload a reference, compare against it, and play the album across a 
     // Upload the reference; the worker analyses it.
     const references = page.getByTestId("references");
     await references.locator("#reference-files").setInputFiles(refPath);
-    await references.getByRole("button", { name: "Upload" }).click();
+    await references.getByRole("button", { name: "Upload", exact: true }).click();
     const row = references.locator("tr[data-reference]").filter({ hasText: "Harbour Lights reference.wav" }).first();
     await expect(row).toBeVisible({ timeout: 30_000 });
     await expect(async () => {
       await page.reload();
-      await expect(page.getByTestId("references").locator("tr[data-reference]").filter({ hasText: "Harbour Lights reference.wav" }).first()).toHaveAttribute("data-analysis-state", "done", { timeout: 2_000 });
+      await expect(page.getByTestId("references").locator("tr[data-reference]").filter({ hasText: "Harbour Lights reference.wav" }).first()).toHaveAttribute("data-analysis-state", "done", { timeout: 5_000 });
     }).toPass({ timeout: 90_000 });
     const referenceId = await page.getByTestId("references").locator("tr[data-reference]").filter({ hasText: "Harbour Lights reference.wav" }).first().getAttribute("data-reference");
 
     // Compare the first track's newest render against it.
     await page.getByRole("link", { name: "Tin Roof Morning" }).first().click();
+    await page.waitForURL(/\/tracks\/[0-9a-f-]{36}$/);
     const trackUrl = page.url();
     await expect(async () => {
       await page.goto(`${trackUrl}/compare?b=reference:${referenceId}`);
-      await expect(page.getByTestId("spectrum-chart")).toBeVisible({ timeout: 2_000 });
+      await expect(page.getByTestId("spectrum-chart")).toBeVisible({ timeout: 10_000 });
     }).toPass({ timeout: 120_000 });
     const chart = page.getByTestId("spectrum-chart");
     for (const series of ["a", "b", "difference"]) {
@@ -106,7 +107,7 @@ test("staff upload a reference, compare against it, and play the album across a 
     await openRelease(page);
     await expect(async () => {
       await page.reload();
-      await expect(page.getByTestId("album-player").locator("button[data-start-s]")).toHaveCount(2, { timeout: 2_000 });
+      await expect(page.getByTestId("album-player").locator("button[data-start-s]")).toHaveCount(2, { timeout: 10_000 });
     }).toPass({ timeout: 180_000 });
     await expect(page.getByTestId("album-lufs")).toContainText("LUFS");
     await expect(page.getByTestId("album-loudness-chart")).toBeVisible();
