@@ -64,6 +64,7 @@ function launch(name, cmd, args) {
 if (dev) {
   launch("web", "npx", ["react-router", "dev", "--host", env.HOST, "--port", String(port)]);
 } else {
+  run("node", ["scripts/build-dsp.mjs"], { env });
   run("npx", ["react-router", "build"], { env });
   launch("web", "npx", ["react-router-serve", "./build/server/index.js"]);
 }
