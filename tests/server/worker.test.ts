@@ -82,9 +82,9 @@ describe("worker", () => {
       // The renderer measures its output before writing it as 24-bit; rounding to 24 bits moves the figures by far less than 0.001 dB.
       // Its meter is pre-rolled (previews are the print): the loudness figures' windows at the region's start reach back
       // into the audio before it, as the print's meter's do, where an analysis of the file alone starts from silence.
-      // The loudness range of a 3 s file alone rests on one 3 s block, so it is not compared.
-      const windowed = new Set<string>(["integratedLufs", "maxMomentaryLufs", "maxShortTermLufs"]);
-      for (const key of FIGURES) if (key !== "loudnessRangeLu") expect(Math.abs(output[key] - stored[key]), key).toBeLessThan(windowed.has(key) ? 0.3 : 0.001);
+      // The 3 s figures (short-term, range) of a 3 s file alone rest on windows mostly padded with silence, so they are not compared.
+      const windowed = new Set<string>(["integratedLufs", "maxMomentaryLufs"]);
+      for (const key of FIGURES) if (key !== "loudnessRangeLu" && key !== "maxShortTermLufs") expect(Math.abs(output[key] - stored[key]), key).toBeLessThan(windowed.has(key) ? 0.3 : 0.001);
       expect(output.truePeakDbtp).toBeLessThanOrEqual(-1 + 0.1);
     } finally {
       await local.release();
