@@ -63,6 +63,7 @@ function launch(name, cmd, args) {
 if (dev) {
   launch("web", "npx", ["react-router", "dev", "--host", env.HOST, "--port", String(port)]);
 } else {
+  run("node", ["scripts/build-dsp.mjs"], { env });
   run("npx", ["react-router", "build"], { env });
   // Our own server (server/main.mjs): client addresses, body limits, origin checks, headers.
   launch("web", process.execPath, ["server/main.mjs", "./build/server/index.js"]);

@@ -68,6 +68,8 @@ const step = (name, cmd, args, extraEnv = {}) => {
   }
 };
 
+// The compiled command and render task (dist/): the CLI tests run the command, the worker loads the task.
+step("compile", "node", ["scripts/build-dsp.mjs"]);
 if (unitOnly === null || unitOnly.length > 0) step("vitest", "npx", ["vitest", "run", ...(unitOnly ?? [])]);
 
 if (e2e && status === 0) {

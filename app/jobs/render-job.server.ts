@@ -7,6 +7,7 @@ import { mkdtemp, rm } from "node:fs/promises";
 import path from "node:path";
 import { MessageChannel } from "node:worker_threads";
 import type PgBoss from "pg-boss";
+import { parseChain } from "../../dsp/chain/schema.ts";
 import { db } from "../lib/db.server.ts";
 import type { LocalFile } from "../lib/storage/storage.server.ts";
 import type { RenderRow } from "../models/render.server.ts";
@@ -45,6 +46,11 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
     const mix = await db("mixes").where({ id: row.mix_id }).first<{ storage_key: string }>("storage_key");
     const revision = await db("chain_revisions").where({ id: row.chain_revision_id }).first<{ params: unknown }>("params");
     if (!mix || !revision) throw new Error("the mix or the chain revision of this render no longer exists");
+    // The target this render aims at (the render's own, else the chain's) and the gain found for it before, if any.
+    const parsed = parseChain(revision.params);
+    const targetLufs = row.target_lufs ?? (parsed.ok ? parsed.chain.output.targetLufs : undefined) ?? null;
+    const gainKey = targetLufs === null ? null : { mix_id: row.mix_id, chain_revision_id: row.chain_revision_id, target_lufs: targetLufs };
+    const cached = gainKey ? await db("target_gains").where(gainKey).first<{ gain_db: number } | undefined>("gain_db") : undefined;
     input = await ctx.storage.localFile(mix.storage_key, ctx.tmpDir);
     folder = await mkdtemp(path.join(ctx.tmpDir, `render-${renderId}-`));
     const outputPath = path.join(folder, "output.wav");
@@ -64,6 +70,7 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
       preview: row.kind === "preview",
       region: row.region_start_s !== null && row.region_end_s !== null ? { startS: row.region_start_s, endS: row.region_end_s } : null,
       targetLufs: row.target_lufs,
+      targetGainDb: cached?.gain_db ?? null,
       port: channel.port1,
     };
     let raw: unknown;
@@ -75,6 +82,9 @@ export async function runRenderJob(job: PgBoss.JobWithMetadata<unknown>, ctx: Wo
     const result = renderResultSchema.parse(raw);
     await watch.stop();
     if (abort.signal.aborted) throw abort.signal.reason;
+    if (gainKey && !cached && result.targetGainDb !== null) {
+      await db("target_gains").insert({ ...gainKey, gain_db: result.targetGainDb }).onConflict(["mix_id", "chain_revision_id", "target_lufs"]).ignore();
+    }
 
     const outputKey = `renders/${renderId}/${row.kind}.wav`;
     const tracesKey = `renders/${renderId}/traces.json`;

@@ -45,6 +45,7 @@ export default async function runTask(raw: unknown): Promise<AnalyzeResult | Ren
       region: task.region ?? undefined,
       preview: task.preview,
       targetLufs: task.targetLufs ?? undefined,
+      targetGainDb: task.targetGainDb ?? undefined,
       onProgress,
     });
     await writeFile(task.tracesPath, JSON.stringify(toJsonValue(result.traces)));
@@ -57,6 +58,7 @@ export default async function runTask(raw: unknown): Promise<AnalyzeResult | Ren
       input: toJsonValue(result.input) as Record<string, unknown>,
       output: toJsonValue(result.output) as Record<string, unknown>,
       passes: result.passes,
+      targetGainDb: result.targetGainDb ?? null,
       region: result.region ?? null,
       format: { sampleRateHz: format.sampleRate, channels: format.channels, bitDepth: format.bitDepth, sampleFormat: format.sampleFormat },
     };

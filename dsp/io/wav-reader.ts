@@ -46,6 +46,8 @@ export interface WavReader {
   readonly format: WavFormat;
   /** Reads up to maxFrames frames into channels[ch][0..n); returns n, 0 at the end. */
   read(channels: Float64Array[], maxFrames: number): Promise<number>;
+  /** Moves past up to `frames` frames without decoding them (a pre-rolled region starts later in the file); returns how many. */
+  skip(frames: number): number;
   close(): Promise<void>;
 }
 
@@ -301,6 +303,14 @@ class StreamingWavReader implements WavReader {
       done += n;
     }
     return done;
+  }
+
+  skip(frames: number): number {
+    const n = Math.max(0, Math.min(Math.floor(frames), this.framesLeft));
+    this.position += n * this.blockAlign;
+    this.framesLeft -= n;
+    this.framesRead += n;
+    return n;
   }
 
   private decode(channels: Float64Array[], offset: number, n: number): void {

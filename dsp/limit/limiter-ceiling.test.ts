@@ -25,7 +25,7 @@ function bursts(fs: number, seed: number, periodS: number, decayMs: number, body
   const n = Math.round(1.5 * fs);
   return [0, 1].map((c) => {
     const g = createGaussian(seed + c), rnd = createRng(seed + 10 + c);
-    let x = new Float64Array(n);
+    let x: Float64Array = new Float64Array(n);
     let level = 0, prev = 0;
     for (let i = 0; i < n; i++) {
       const t = (i % Math.round(periodS * fs)) / fs;

@@ -197,6 +197,25 @@ export class LoudnessMeter {
     this.shortTermCurve.length = 0;
   }
 
+  /**
+   * Starts the measurement over while keeping the filters, the windows and the
+   * step grid where the audio so far left them: after a pre-roll, the region's
+   * figures (peaks, loudness, range, the short-term curve) as a meter that ran
+   * from the file's start sees them over that stretch. Gating blocks ending
+   * after this point still reach back into the pre-roll, as the whole-file
+   * meter's do.
+   */
+  restartTotals(): void {
+    this.truePeak?.resetMax();
+    this.reconstructed?.resetMax();
+    this.samplePeak = 0;
+    this.sumLL = this.sumRR = this.sumLR = 0;
+    this.maxMomentaryPower = this.maxShortTermPower = 0;
+    this.momentaryBlocks.clear();
+    this.shortTermBlocks.clear();
+    this.shortTermCurve.length = 0;
+  }
+
   /** Measures `frames` frames of `channels` (not modified). */
   process(channels: Float64Array[], frames: number): void {
     if (channels.length < this.channels) throw new RangeError(`need ${this.channels} channel buffers, got ${channels.length}`);

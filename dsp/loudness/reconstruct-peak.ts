@@ -110,6 +110,11 @@ export class ReconstructedPeakDetector {
     for (const h of this.hist) h.fill(0);
   }
 
+  /** Forgets the maximum so far, keeping the history (a pre-rolled meter starting its region). */
+  resetMax(): void {
+    this.max = 0;
+  }
+
   /** A copy with the same history and maximum (to read the end of a stream without ending it). */
   snapshot(): ReconstructedPeakDetector {
     const copy = new ReconstructedPeakDetector(this.sampleRate, this.hist.length, Math.max(RECONSTRUCT_LATENCY_FRAMES, 1));

@@ -114,8 +114,8 @@ describe("the loudness report", () => {
     ]);
     expect(rows[1]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "Streaming", "-9.2", "5.5", "-1", "-0.96", "8.2", "4.8", "6.8", "13.8", ""]);
     expect(rows[2]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "CD", "-15", "7", "-0.99", "", "14.1", "0", "1", "8", "true peak high"]);
-    expect(rows[3]).toEqual(["2", 'Salt, "Cedar"', "", "Streaming", "", "0", "", "", "", "", "", "silent"]);
-    expect(rows[4]).toEqual(["2", 'Salt, "Cedar"', "", "CD", "", "", "", "", "", "", "", "not delivered"]);
+    expect(rows[3]).toEqual(["2", 'Salt, "Cedar"', "", "Streaming", "", "0", "", "", "", "", "", "", "silent"]);
+    expect(rows[4]).toEqual(["2", 'Salt, "Cedar"', "", "CD", "", "", "", "", "", "", "", "", "not delivered"]);
     expect(rows).toHaveLength(5);
     expect(csv).toContain('"Salt, ""Cedar"""');
   });
