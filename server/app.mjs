@@ -159,6 +159,7 @@ function refuse(req, res, status, message) {
   }
   const wantsJson = req.path.startsWith("/api/") || (req.headers.accept ?? "").includes("application/json");
   res.status(status);
+  if (status === 413) res.setHeader("Connection", "close");
   if (wantsJson) res.json({ error: message });
   else res.type("text/plain; charset=utf-8").send(message);
   drainRest(req, res);
@@ -172,7 +173,7 @@ function refuse(req, res, status, message) {
 function drainRest(req, res) {
   req.stopUpload?.();
   if (req.complete || req.destroyed) return;
-  // The connection stays open while draining: closing it now would reset a client still sending.
+  res.shouldKeepAlive = false;
   const timer = setTimeout(() => req.destroy(), DRAIN_MS);
   timer.unref();
   req.on("end", () => clearTimeout(timer));
