@@ -230,6 +230,11 @@ async function parseHeaderFrom(source: ByteSource): Promise<ParsedHeader> {
   };
 }
 
+/** The format and where the audio starts, from a WAV's first bytes (a stored file's header read by range). */
+export async function parseWavHeaderBytes(bytes: Uint8Array, fileSize: number): Promise<{ format: WavFormat; dataOffset: number; blockAlign: number }> {
+  return parseHeaderFrom({ size: fileSize, read: async (position, length) => bytes.subarray(position, Math.min(bytes.length, position + length)) });
+}
+
 /** The format of a WAV held in memory (the fuzzer's way in; the same parser as files). */
 export async function probeWavBytes(bytes: Uint8Array): Promise<WavFormat> {
   return (await parseHeaderFrom(memorySource(bytes))).format;

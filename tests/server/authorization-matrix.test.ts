@@ -2,7 +2,7 @@
 // home for pages meant for the signed-out), against the real database.
 // Route modules are called directly with a Request carrying a session cookie.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { createFixture, destroyFixture, outcomeOf, PERSONAS, requestAs, type Fixture, type Outcome, type Persona } from "./fixtures.ts";
+import { cookieFor, createFixture, destroyFixture, outcomeOf, PERSONAS, requestAs, type Fixture, type Outcome, type Persona } from "./fixtures.ts";
 import { createInvitation } from "../../app/models/invitation.server.ts";
 import routes from "../../app/routes.ts";
 import * as signIn from "../../app/routes/sign-in.tsx";
@@ -78,6 +78,17 @@ type Handler = (args: { request: Request; params: Record<string, string>; contex
 type Case = { route: string; file: string; kind: "loader" | "action"; handler: Handler; path: (f: Fixture) => string; params?: (f: Fixture) => Record<string, string>; form?: Record<string, string> | (() => Record<string, string>); expected: Expect };
 
 let fixture: Fixture;
+
+/** Signing out ends the persona's server-side session; the rest of the matrix gets a fresh one. */
+const signOutKeepingFixture: Handler = async (args) => {
+  const result = await (signOut.action as Handler)(args);
+  for (const persona of PERSONAS) {
+    if (persona === "signedOut") continue;
+    const user = fixture.users[persona];
+    user.cookie = await cookieFor(user.id, persona === "otherStudio" ? fixture.otherStudioId : fixture.studioId);
+  }
+  return result;
+};
 let invitationToken: string;
 let trackChainId: string;
 let apiRenderId: string;
@@ -116,7 +127,7 @@ const cases: Case[] = [
   { route: "/sign-in", file: "routes/sign-in.tsx", kind: "loader", handler: signIn.loader as Handler, path: () => "/sign-in", expected: signedOutOnly },
   { route: "/sign-in", file: "routes/sign-in.tsx", kind: "action", handler: signIn.action as Handler, path: () => "/sign-in", form: { email: "" }, expected: everyone("allowed") },
   { route: "/sign-out", file: "routes/sign-out.tsx", kind: "loader", handler: signOut.loader as Handler, path: () => "/sign-out", expected: everyone("home") },
-  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOut.action as Handler, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
+  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOutKeepingFixture, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
   { route: "/studio", file: "routes/studio-switch.ts", kind: "loader", handler: studioSwitch.loader as Handler, path: () => "/studio", expected: everyone("home") },
   // Switching into the second studio: only its own engineer is a member there.
   { route: "/studio", file: "routes/studio-switch.ts", kind: "action", handler: studioSwitch.action as Handler, path: () => "/studio", form: () => ({ studioId: fixture.otherStudioId }), expected: { ...everyone("404"), signedOut: "sign-in", otherStudio: "home" } },
