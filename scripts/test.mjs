@@ -2,17 +2,20 @@
 // `npm test`: the same preparation as `npm start` against a separate test
 // database, then vitest (unit and server tests on the real PostgreSQL), then
 // Playwright against a production build in Debian's chromium.
+//   --checks     first the static checks of the gate (type check, lint, layer rules), run
+//                while the services start; `npm run validate` is `--checks --no-e2e`, CI runs `--checks`
 //   --services   prepare, print the environment, and keep the services up (for working on tests)
 //   --no-e2e     skip the browser tests
 //   --unit=A,B   vitest on these paths only (--unit= skips vitest)
 //   --e2e=A,B    Playwright on these specs only
 import { rmSync } from "node:fs";
-import { spawnSync } from "node:child_process";
+import { spawn, spawnSync } from "node:child_process";
 import { root, portOffset, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
 const servicesOnly = process.argv.includes("--services");
+const checks = process.argv.includes("--checks") && !servicesOnly;
 const e2e = !process.argv.includes("--no-e2e") && !servicesOnly;
 const listArg = (name) => {
   const arg = process.argv.find((a) => a.startsWith(`--${name}=`));
@@ -23,6 +26,23 @@ const e2eOnly = listArg("e2e");
 const webPort = Number(process.env.TEST_PORT ?? 3100 + portOffset);
 
 ensureNodeModules();
+
+// The static checks need no services: they run beside the database's start,
+// each with its output held back and printed whole when it ends.
+const checkNames = ["typecheck", "lint"];
+const checkRuns = checks
+  ? checkNames.map(
+      (name) =>
+        new Promise((resolve) => {
+          const started = Date.now();
+          const child = spawn("npm", ["run", "--silent", name], { cwd: root, stdio: ["ignore", "pipe", "pipe"] });
+          const output = [];
+          child.stdout.on("data", (d) => output.push(d));
+          child.stderr.on("data", (d) => output.push(d));
+          child.on("close", (code, signal) => resolve({ name, ok: code === 0, why: code ?? signal, seconds: (Date.now() - started) / 1000, output: Buffer.concat(output).toString() }));
+        }),
+    )
+  : [];
 const missing = [];
 if (!which("sox")) missing.push("sox");
 if (e2e && !which("chromium")) missing.push("chromium");
@@ -67,6 +87,15 @@ const step = (name, cmd, args, extraEnv = {}) => {
     status = r.status || 1;
   }
 };
+
+for (const result of await Promise.all(checkRuns)) {
+  log(`— ${result.name} (${result.seconds.toFixed(0)} s)`);
+  if (result.output.trim()) process.stderr.write(result.output.endsWith("\n") ? result.output : `${result.output}\n`);
+  if (!result.ok) {
+    log(`${result.name} failed (${result.why})`);
+    status = 1;
+  }
+}
 
 if (unitOnly === null || unitOnly.length > 0) step("vitest", "npx", ["vitest", "run", ...(unitOnly ?? [])]);
 

@@ -34,7 +34,6 @@ export const refusedMessage = (reason: string) => `The file was refused: ${reaso
 
 /** A name safe to keep and show: no folders, no control characters, at most 255 characters. */
 export function cleanFileName(name: string | null | undefined): string {
-  // biome-ignore lint/suspicious/noControlCharactersInRegex: control characters are what is removed
   const base = (name ?? "").split(/[\\/]/).pop()!.replace(/[\u0000-\u001f\u007f]/g, "").trim();
   return (base || "mix.wav").slice(0, 255);
 }

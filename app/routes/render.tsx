@@ -90,7 +90,7 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
   }, [active, here, poll]);
   useEffect(() => {
     if (poll.data?.id === render.id && poll.data.state !== render.state && !active && revalidator.state === "idle") void revalidator.revalidate();
-  }, [poll.data, render.state, active, revalidator]);
+  }, [poll.data, render.id, render.state, active, revalidator]);
 
   const title = `${render.kind === "print" ? "Print" : "Preview"} of v${mix.version}`;
   return (
@@ -164,7 +164,6 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
             </h2>
             <div className="mt-3 space-y-2">
               <MonitoringReminder />
-              {/* biome-ignore lint/a11y/useMediaCaption: a master has no words to caption */}
               <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full" />
               <p className="text-sm">
                 {downloadOpen ? (

@@ -93,7 +93,6 @@ export default function Review({ loaderData, actionData }: Route.ComponentProps)
               {render.integratedLufs != null && <span className="num ml-2 text-sm font-normal text-ink-soft">{render.integratedLufs.toFixed(1)} LUFS integrated</span>}
             </h2>
             <MonitoringReminder />
-            {/* biome-ignore lint/a11y/useMediaCaption: a master has no words to caption */}
             <audio
               ref={audioRef}
               controls

@@ -2,7 +2,7 @@
 // is recognised by its WAV header, not its name; a refused file (not a WAV,
 // truncated, an unsupported codec, past the size limit) gives its specific
 // message and leaves no row and no stored file.
-import { mkdtemp, readFile, readdir, rm, writeFile } from "node:fs/promises";
+import { mkdtemp, readFile, readdir, rm } from "node:fs/promises";
 import { createReadStream } from "node:fs";
 import os from "node:os";
 import path from "node:path";
