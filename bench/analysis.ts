@@ -14,7 +14,7 @@ import { Biquad } from "../dsp/filters/biquad.ts";
 import { designBiquad } from "../dsp/filters/biquad-design.ts";
 import { openWav } from "../dsp/io/wav-reader.ts";
 import { createWavWriter } from "../dsp/io/wav-writer.ts";
-import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../dsp/loudness/ebur128-reference.ts";
+import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../dsp/testing/ebur128-reference.ts";
 import { LoudnessMeter } from "../dsp/loudness/meter.ts";
 import { TruePeakDetector } from "../dsp/loudness/true-peak.ts";
 

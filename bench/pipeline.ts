@@ -24,9 +24,9 @@ import { db } from "../app/lib/db.server.ts";
 import { createStorage, type StorageDriver } from "../app/lib/storage/storage.server.ts";
 import { createChain, createRevision } from "../app/models/chain.server.ts";
 import { createRender, getRender } from "../app/models/render.server.ts";
-import { cancelJob, queueSettings, stopQueue } from "../app/jobs/queue.server.ts";
+import { cancelJob, queueSettings, stopQueue } from "../app/lib/queue.server.ts";
 import { createApiToken } from "../app/models/api-token.server.ts";
-import { createFixture, gentleChain, root, startWorker, uploadTestMix, waitFor, writeTestWav, type Fixture } from "../tests/server/worker-harness.ts";
+import { createFixture, gentleChain, root, startWorker, uploadTestMix, waitFor, writeTestWav, type Fixture } from "../harness/worker-harness.ts";
 
 const RENDERS = Number(process.env.TIDEMARK_BENCH_RENDERS ?? 4);
 const RENDER_SECONDS = Number(process.env.TIDEMARK_BENCH_RENDER_SECONDS ?? 60);

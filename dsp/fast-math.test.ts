@@ -2,7 +2,7 @@
 // correctly rounded to within an ulp or so), over the ranges the compressors
 // use and beyond, on a seeded spread of values plus the table edges.
 import { describe, expect, it } from "vitest";
-import { createRng } from "../bench/signals.ts";
+import { createRng } from "./testing/signals.ts";
 import { fastExp2, fastLog2 } from "./fast-math.ts";
 
 describe("fastLog2 (reference: Math.log2)", () => {

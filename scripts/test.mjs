@@ -29,7 +29,7 @@ ensureNodeModules();
 
 // The static checks need no services: they run beside the database's start,
 // each with its output held back and printed whole when it ends.
-const checkNames = ["typecheck", "lint"];
+const checkNames = ["typecheck", "lint", "depcruise"];
 const checkRuns = checks
   ? checkNames.map(
       (name) =>

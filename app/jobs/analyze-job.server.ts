@@ -4,7 +4,7 @@ import { MessageChannel } from "node:worker_threads";
 import type PgBoss from "pg-boss";
 import type { LocalFile } from "../lib/storage/storage.server.ts";
 import { markAnalysisFailed, markAnalysisRetrying, saveAnalysis, startAnalysis } from "../models/mix.server.ts";
-import { analyzeJobData } from "./queue.server.ts";
+import { analyzeJobData } from "../lib/queue.server.ts";
 import { analyzeResultSchema, type AnalyzeTask } from "./task-messages.ts";
 import { readableError, type WorkerContext } from "./worker-context.server.ts";
 

@@ -5,7 +5,7 @@
 import type PgBoss from "pg-boss";
 import { db } from "../lib/db.server.ts";
 import { makeDelivery } from "../lib/delivery/make-delivery.server.ts";
-import { deliverJobData } from "./queue.server.ts";
+import { deliverJobData } from "../lib/queue.server.ts";
 import { readableError, type WorkerContext } from "./worker-context.server.ts";
 
 export async function runDeliveryJob(job: PgBoss.JobWithMetadata<unknown>, ctx: WorkerContext): Promise<void> {

@@ -10,7 +10,7 @@ import type PgBoss from "pg-boss";
 import { db } from "../lib/db.server.ts";
 import type { LocalFile } from "../lib/storage/storage.server.ts";
 import type { RenderRow } from "../models/render.server.ts";
-import { renderJobData } from "./queue.server.ts";
+import { renderJobData } from "../lib/queue.server.ts";
 import { watchRender } from "./render-watch.server.ts";
 import { progressMessageSchema, renderResultSchema, type RenderTask } from "./task-messages.ts";
 import { readableError, type AbortReason, type WorkerContext } from "./worker-context.server.ts";

@@ -8,7 +8,7 @@ import { analyzeFile } from "../../dsp/analysis.ts";
 import { formatChainErrors, parseChain } from "../../dsp/chain/schema.ts";
 import { renderFile } from "../../dsp/render/render-file.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
-import { toJsonValue } from "./json.ts";
+import { toJsonValue } from "../lib/json.ts";
 import { writeFile } from "node:fs/promises";
 import { taskSchema, type AnalyzeResult, type ProgressMessage, type RenderResult } from "./task-messages.ts";
 

@@ -5,7 +5,7 @@
 //   job failed, row unfinished          → row failed, with a message to read
 //   job waiting for a retry, row running → row queued (a mix: pending) again
 import { db } from "../lib/db.server.ts";
-import type { QueueSettings } from "./queue.server.ts";
+import type { QueueSettings } from "../lib/queue.server.ts";
 
 const TIMEOUT_OUTPUT = "job failed by timeout in active state";
 

@@ -2,7 +2,7 @@
 import type PgBoss from "pg-boss";
 import type { Piscina } from "piscina";
 import type { StorageDriver } from "../lib/storage/storage.server.ts";
-import type { QueueSettings } from "./queue.server.ts";
+import type { QueueSettings } from "../lib/queue.server.ts";
 
 /** Why a running job was aborted; anything else is a failure of the job itself. */
 export type AbortReason = "cancelled" | "superseded" | "gone" | "shutdown";

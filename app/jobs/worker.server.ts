@@ -16,7 +16,7 @@ import { storage } from "../lib/storage/storage.server.ts";
 import { startMailDelivery } from "../lib/mail/mailer.server.ts";
 import { runAnalyzeJob } from "./analyze-job.server.ts";
 import { runDeliveryJob } from "./delivery-job.server.ts";
-import { queueSettings, startBoss } from "./queue.server.ts";
+import { queueSettings, startBoss } from "../lib/queue.server.ts";
 import { runRenderJob } from "./render-job.server.ts";
 import { sweep } from "./sweeper.server.ts";
 import type { WorkerContext } from "./worker-context.server.ts";

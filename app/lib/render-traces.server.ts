@@ -3,14 +3,13 @@
 // bucket keeps its largest gain reduction (peaks are what an engineer looks
 // for) and its loudest short-term value.
 import { storage, StorageNotFoundError } from "./storage/storage.server.ts";
+import type { ChartTraces } from "./chart-traces.ts";
 
 export type StoredTraces = {
   gridMs: number;
   stages: { index: number; type: string; names: string[]; gainReductionDb: number[][] }[];
   shortTermLufs: (number | null)[];
 };
-
-import type { ChartTraces } from "../components/render/render-traces.tsx";
 
 export function thin(values: (number | null)[], buckets: number, pick: (a: number, b: number) => number): (number | null)[] {
   if (values.length <= buckets) return values.map((v) => (typeof v === "number" && Number.isFinite(v) ? v : null));

@@ -10,7 +10,7 @@ import { storage } from "../lib/storage/storage.server.ts";
 import { isStaff } from "../lib/roles.ts";
 import type { RenderTraces } from "../lib/compare/traces.ts";
 import { formatSourceKey, type SourceType } from "../lib/compare/sources.ts";
-import { formatClock } from "../components/player/format.ts";
+import { formatClock } from "../lib/format.ts";
 import { getMix, listMixVersions, type Mix } from "./mix.server.ts";
 import { listReviewableRenders, type ReviewableRender, type Viewer } from "./review.server.ts";
 

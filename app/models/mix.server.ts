@@ -12,8 +12,8 @@ import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
-import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
-import { toJsonValue } from "../jobs/json.ts";
+import { enqueueAnalyzeMix } from "../lib/queue.server.ts";
+import { toJsonValue } from "../lib/json.ts";
 
 export type MixFormat = {
   sampleRateHz: number;

@@ -4,7 +4,7 @@
 // the queue job only says which worker may work on it.
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
-import { cancelJob, enqueueRender, queueSettings } from "../jobs/queue.server.ts";
+import { cancelJob, enqueueRender, queueSettings } from "../lib/queue.server.ts";
 import { rendersWithRelease, whereRenderVisible, type RenderViewer } from "../lib/render-visibility.server.ts";
 import { keysetPage, type Page } from "../lib/keyset.server.ts";
 import { PREVIEW_WINDOW_S, type RenderResult } from "../../dsp/render/render-file.ts";

@@ -24,7 +24,7 @@ import { getTrackReview } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
 import { AbPlayer } from "../components/player/ab-player.tsx";
 import { AnalysesCompare } from "../components/player/analyses-compare.tsx";
-import { formatClock } from "../components/player/format.ts";
+import { formatClock } from "../lib/format.ts";
 import { TraceCharts } from "../components/player/trace-charts.tsx";
 import { BackLink } from "../components/page-header.tsx";
 import { ReviewHeader } from "../components/review/review-header.tsx";

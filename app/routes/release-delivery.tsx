@@ -12,7 +12,7 @@ import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
 import { STAFF } from "../lib/roles.ts";
-import { enqueueDelivery } from "../jobs/queue.server.ts";
+import { enqueueDelivery } from "../lib/queue.server.ts";
 import { queueReleaseDeliveries, releaseFormats } from "../models/delivery.server.ts";
 import { deleteReleaseFormat, finishedFilesIn, hasOwnFormats, listReleaseDeliveries, saveReleaseFormat } from "../models/release-formats.server.ts";
 import { releaseDeliveryPlan } from "../models/delivery-plan.server.ts";

@@ -14,7 +14,7 @@ import { shownReviewState } from "../lib/review/state.ts";
 import { getTrackReview, listReviewableRenders } from "../models/review.server.ts";
 import { getTrack } from "../models/track.server.ts";
 import { reviewPageAction } from "../lib/review/page-action.server.ts";
-import { formatClock } from "../components/player/format.ts";
+import { formatClock } from "../lib/format.ts";
 import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 import { BackLink } from "../components/page-header.tsx";
 import { ReviewHeader } from "../components/review/review-header.tsx";

@@ -6,11 +6,11 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { promisify } from "node:util";
 import { afterAll, describe, expect, it } from "vitest";
-import { mixedSignal } from "../../bench/signals.ts";
+import { mixedSignal } from "../testing/signals.ts";
 import { analyzeFile } from "../analysis.ts";
 import { openWav } from "../io/wav-reader.ts";
 import { createWavWriter } from "../io/wav-writer.ts";
-import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../loudness/ebur128-reference.ts";
+import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../testing/ebur128-reference.ts";
 
 const run = promisify(execFile);
 const root = join(import.meta.dirname, "..", "..");

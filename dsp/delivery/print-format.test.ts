@@ -10,7 +10,7 @@ import { afterAll, describe, expect, it } from "vitest";
 import { WaveFile } from "wavefile";
 import { openWav } from "../io/wav-reader.ts";
 import { createWavWriter } from "../io/wav-writer.ts";
-import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../loudness/ebur128-reference.ts";
+import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../testing/ebur128-reference.ts";
 import { readBextFromWav } from "./bext-wav.ts";
 import { printDelivery } from "./print-format.ts";
 

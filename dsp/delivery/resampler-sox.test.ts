@@ -8,7 +8,7 @@ import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { WaveFile } from "wavefile";
 import { resampleBuffer } from "./resampler.ts";
-import { rms } from "./tone-fit.ts";
+import { rms } from "../testing/tone-fit.ts";
 import { linearToDb } from "../units.ts";
 
 const hasSox = spawnSync("sox", ["--version"]).status === 0;

@@ -5,7 +5,7 @@
 // +-0.1 dB to 20 kHz, at least 90 dB below a tone above the new Nyquist.
 import { describe, expect, it } from "vitest";
 import { designResampler, resampleBuffer, resampledLength, Resampler } from "./resampler.ts";
-import { fitTone, rms, sine } from "./tone-fit.ts";
+import { fitTone, rms, sine } from "../testing/tone-fit.ts";
 import { linearToDb } from "../units.ts";
 
 const amplitude = 0.5;

@@ -3,7 +3,7 @@ import { Compressor, CONTROL_MIN_TIME_MS, controlFrames, controlFramesFor, type 
 import { gainReductionDb } from "./gain-computer.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
-import { whiteNoise } from "../../bench/signals.ts";
+import { whiteNoise } from "../testing/signals.ts";
 import { Biquad } from "../filters/biquad.ts";
 import { BUTTERWORTH_Q, designBiquad } from "../filters/biquad-design.ts";
 import { sine } from "./dynamics.test-util.ts";

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { whiteNoise } from "../../bench/signals.ts";
+import { whiteNoise } from "../testing/signals.ts";
 import { BandSplitter } from "../filters/crossover.ts";
 import { Compressor } from "./compressor.ts";
 import { MultibandCompressor, type MultibandBandSettings } from "./multiband.ts";

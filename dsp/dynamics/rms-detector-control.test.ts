@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { whiteNoise } from "../../bench/signals.ts";
+import { whiteNoise } from "../testing/signals.ts";
 import { RmsDetector } from "./rms-detector.ts";
 import { ControlRateRmsDetector } from "./rms-detector-control.ts";
 

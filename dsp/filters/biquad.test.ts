@@ -2,7 +2,7 @@
 // opinion, the Web Audio formulas of `biquad-coeffs-webaudio`.
 import { createRequire } from "node:module";
 import { describe, expect, it } from "vitest";
-import { createRng, whiteNoise } from "../../bench/signals.ts";
+import { createRng, whiteNoise } from "../testing/signals.ts";
 import { Biquad } from "./biquad.ts";
 import { type BiquadCoeffs, type BiquadShape, biquadMagnitudeDb, designBiquad } from "./biquad-design.ts";
 import { fromMidSide, toMidSide } from "./mid-side.ts";

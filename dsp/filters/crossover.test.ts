@@ -1,7 +1,7 @@
 // Linkwitz-Riley 4th order, checked analytically (LR4 = Butterworth², −6.02 dB
 // at the crossover, 24 dB/octave asymptote) and through the processor.
 import { describe, expect, it } from "vitest";
-import { whiteNoise } from "../../bench/signals.ts";
+import { whiteNoise } from "../testing/signals.ts";
 import { biquadMagnitudeDb } from "./biquad-design.ts";
 import { BandSplitter, designLinkwitzRiley4 } from "./crossover.ts";
 

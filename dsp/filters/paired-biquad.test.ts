@@ -2,7 +2,7 @@
 // RBJ cookbook coefficients) two channels per loop; Biquad is the reference
 // here, and the mid/side band the matrix of mid-side.ts around it.
 import { describe, expect, it } from "vitest";
-import { whiteNoise } from "../../bench/signals.ts";
+import { whiteNoise } from "../testing/signals.ts";
 import { Biquad } from "./biquad.ts";
 import { designBiquad } from "./biquad-design.ts";
 import { fromMidSide, toMidSide } from "./mid-side.ts";

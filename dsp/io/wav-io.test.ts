@@ -6,7 +6,7 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { WaveFile } from "wavefile";
 import { afterAll, describe, expect, it } from "vitest";
-import { createRng } from "../../bench/signals.ts";
+import { createRng } from "../testing/signals.ts";
 import { openWav, probeWav, WavFormatError, type WavFormatErrorCode } from "./wav-reader.ts";
 import { createWavWriter, type WavWriterOptions } from "./wav-writer.ts";
 

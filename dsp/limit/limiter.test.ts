@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { referenceTruePeakDbtp } from "../loudness/ebur128-reference.ts";
+import { referenceTruePeakDbtp } from "../testing/ebur128-reference.ts";
 import { LoudnessMeter } from "../loudness/meter.ts";
 import { TruePeakDetector } from "../loudness/true-peak.ts";
 import { Prng } from "../output/prng.ts";

@@ -3,8 +3,8 @@
 // a second opinion. The Tech 3341/3342 case definitions below are from
 // memory; the expected values follow from them.
 import { describe, expect, it } from "vitest";
-import { createGaussian, fade, mixedSignal, sine, steppedSine, whiteNoise } from "../../bench/signals.ts";
-import { referenceIntegratedLufs, referenceTruePeakDbtp } from "./ebur128-reference.ts";
+import { createGaussian, fade, mixedSignal, sine, steppedSine, whiteNoise } from "../testing/signals.ts";
+import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../testing/ebur128-reference.ts";
 import { type LoudnessAnalysis, LoudnessMeter, type MeterOptions } from "./meter.ts";
 
 function measure(x: Float64Array[], fs: number, options: MeterOptions = { truePeak: false }, block = 4096): LoudnessAnalysis {

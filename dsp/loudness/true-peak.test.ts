@@ -1,7 +1,7 @@
 // True peak: analytic cases and EBU Tech 3341 true-peak cases (from memory),
 // tolerance +0.2/−0.4 dB as Tech 3341 gives for true-peak meters.
 import { describe, expect, it } from "vitest";
-import { fade, sine, whiteNoise } from "../../bench/signals.ts";
+import { fade, sine, whiteNoise } from "../testing/signals.ts";
 import { designTruePeakPhases, TruePeakDetector } from "./true-peak.ts";
 
 const tpDb = (x: Float64Array[], fs: number, block = 4096) => {

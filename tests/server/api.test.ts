@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { createFixture, destroyFixture, type Fixture } from "./fixtures.ts";
 import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
 import { createApiToken, revokeApiToken } from "../../app/models/api-token.server.ts";
 import { listRevisions, listTemplates } from "../../app/models/chain.server.ts";
 import { seedTemplates } from "../../db/seeds/02_templates.ts";

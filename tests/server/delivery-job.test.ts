@@ -22,7 +22,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { runDeliveryJob } from "../../app/jobs/delivery-job.server.ts";
-import { queueSettings, startBoss, stopQueue } from "../../app/jobs/queue.server.ts";
+import { queueSettings, startBoss, stopQueue } from "../../app/lib/queue.server.ts";
 import type { WorkerContext } from "../../app/jobs/worker-context.server.ts";
 import { releaseFormats } from "../../app/models/delivery.server.ts";
 import * as deliveryPage from "../../app/routes/release-delivery.tsx";
@@ -30,7 +30,7 @@ import { analyzeFile } from "../../dsp/analysis.ts";
 import { readBextFromWav } from "../../dsp/delivery/bext-wav.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { createFixture, dataOf, destroyFixture, requestAs, type Fixture } from "./fixtures.ts";
-import { writeTestWav } from "./worker-harness.ts";
+import { writeTestWav } from "../../harness/worker-harness.ts";
 
 const settings = queueSettings();
 let fixture: Fixture;

@@ -13,7 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
 import { makeDelivery } from "../../app/lib/delivery/make-delivery.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
 import { buildInvoice, sendInvoice } from "../../app/models/invoice.server.ts";
 import { completeDelivery, createDelivery, latestDeliveries, releasePackage, studioFormats } from "../../app/models/delivery.server.ts";
 import * as delivery from "../../app/routes/release-delivery.tsx";

@@ -6,7 +6,7 @@ import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
 import { createMix, newMixKey } from "../../app/models/mix.server.ts";
-import { gentleChain } from "./worker-harness.ts";
+import { gentleChain } from "../../harness/worker-harness.ts";
 
 export type StoredRender = { mixId: string; renderId: string; mixBytes: Buffer; outputBytes: Buffer; cleanup(): Promise<void> };
 

@@ -7,8 +7,8 @@ import { db } from "../../app/lib/db.server.ts";
 import { createMix, listMixVersions, newMixKey, type MixFormat } from "../../app/models/mix.server.ts";
 import { ChainInvalidError, createChain, createRevision, diffParams, diffRevisions, listRevisions, listTemplates } from "../../app/models/chain.server.ts";
 import { cancelRender, createRender, getRender, listRendersForTrack } from "../../app/models/render.server.ts";
-import { queueSettings, stopQueue } from "../../app/jobs/queue.server.ts";
-import { createFixture, gentleChain, type Fixture } from "./worker-harness.ts";
+import { queueSettings, stopQueue } from "../../app/lib/queue.server.ts";
+import { createFixture, gentleChain, type Fixture } from "../../harness/worker-harness.ts";
 
 process.env.TIDEMARK_QUEUE_NAMESPACE = "test-models";
 

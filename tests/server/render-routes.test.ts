@@ -2,7 +2,7 @@
 // modules on the real database and queue (no worker: the render stays queued).
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
 import { getRender } from "../../app/models/render.server.ts";
 import { createChain, createRevision, type ChainRevision } from "../../app/models/chain.server.ts";
 import * as renderNew from "../../app/routes/render-new.tsx";
@@ -10,7 +10,7 @@ import * as renderPage from "../../app/routes/render.tsx";
 import * as renderProgress from "../../app/routes/render-progress.ts";
 import { createFixture, destroyFixture, dataOf, requestAs, type Fixture } from "./fixtures.ts";
 import { addStoredRender, type StoredRender } from "./download-fixture.ts";
-import { gentleChain } from "./worker-harness.ts";
+import { gentleChain } from "../../harness/worker-harness.ts";
 
 Object.assign(process.env, { TIDEMARK_QUEUE_NAMESPACE: "test-render-routes" });
 

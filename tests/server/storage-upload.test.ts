@@ -14,8 +14,8 @@ Object.assign(process.env, { STORAGE_DRIVER: "local", STORAGE_DIR: storageDir, T
 
 const { db } = await import("../../app/lib/db.server.ts");
 const { addUploadedMix, listMixVersions, MixUploadError } = await import("../../app/models/mix.server.ts");
-const { cancelJob, queueSettings, stopQueue } = await import("../../app/jobs/queue.server.ts");
-const { createFixture, writeTestWav } = await import("./worker-harness.ts");
+const { cancelJob, queueSettings, stopQueue } = await import("../../app/lib/queue.server.ts");
+const { createFixture, writeTestWav } = await import("../../harness/worker-harness.ts");
 
 let fixture: Awaited<ReturnType<typeof createFixture>>;
 let scratch: string;

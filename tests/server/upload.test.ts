@@ -7,14 +7,14 @@ import os from "node:os";
 import path from "node:path";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
 import { getMix } from "../../app/models/mix.server.ts";
 import { analyzeFile } from "../../dsp/analysis.ts";
 import { probeWav, WavFormatError } from "../../dsp/io/wav-reader.ts";
 import * as mixUpload from "../../app/routes/mix-upload.ts";
 import * as track from "../../app/routes/track.tsx";
 import { cookieFor } from "./fixtures.ts";
-import { createFixture, startWorker, waitFor, writeTestWav, type Fixture, type WorkerProcess } from "./worker-harness.ts";
+import { createFixture, startWorker, waitFor, writeTestWav, type Fixture, type WorkerProcess } from "../../harness/worker-harness.ts";
 
 const queueEnv = { TIDEMARK_QUEUE_NAMESPACE: "test-upload", RENDER_JOB_RETRY_LIMIT: "0", ANALYZE_JOB_EXPIRE_SECONDS: "60" };
 Object.assign(process.env, queueEnv);

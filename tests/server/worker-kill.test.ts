@@ -12,8 +12,8 @@ import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { createChain, createRevision, type ChainRevision } from "../../app/models/chain.server.ts";
 import { createRender, getRenderStatus } from "../../app/models/render.server.ts";
-import { queueSettings, stopQueue } from "../../app/jobs/queue.server.ts";
-import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "./worker-harness.ts";
+import { queueSettings, stopQueue } from "../../app/lib/queue.server.ts";
+import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "../../harness/worker-harness.ts";
 import type { Mix } from "../../app/models/mix.server.ts";
 
 const queueEnv = {

@@ -8,8 +8,8 @@ import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { db } from "../../app/lib/db.server.ts";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
 import { createRender, type Render } from "../../app/models/render.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
-import { createFixture, gentleChain, startWorker, uploadTestMix, waitForRender, type Fixture, type WorkerProcess } from "./worker-harness.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
+import { createFixture, gentleChain, startWorker, uploadTestMix, waitForRender, type Fixture, type WorkerProcess } from "../../harness/worker-harness.ts";
 
 const queueEnv = { TIDEMARK_QUEUE_NAMESPACE: "test-pair", RENDER_JOB_RETRY_DELAY_SECONDS: "0", RENDER_JOB_EXPIRE_SECONDS: "120" };
 Object.assign(process.env, queueEnv);

@@ -10,10 +10,10 @@ import { storage } from "../../app/lib/storage/storage.server.ts";
 import { createChain, createRevision } from "../../app/models/chain.server.ts";
 import { getMix } from "../../app/models/mix.server.ts";
 import { createRender } from "../../app/models/render.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
 import { analyzeFile } from "../../dsp/analysis.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
-import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "./worker-harness.ts";
+import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "../../harness/worker-harness.ts";
 
 const s3 = Boolean(process.env.S3_ENDPOINT && process.env.S3_BUCKET);
 const env = { TIDEMARK_QUEUE_NAMESPACE: "test-s3", STORAGE_DRIVER: "s3", RENDER_JOB_EXPIRE_SECONDS: "60" };

@@ -11,8 +11,8 @@ import { analyzeFile } from "../../dsp/analysis.ts";
 import { probeWav } from "../../dsp/io/wav-reader.ts";
 import { createChain, createRevision, type ChainRevision } from "../../app/models/chain.server.ts";
 import { cancelRender, createRender, getRender, getRenderStatus, getRenderTraces } from "../../app/models/render.server.ts";
-import { stopQueue } from "../../app/jobs/queue.server.ts";
-import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "./worker-harness.ts";
+import { stopQueue } from "../../app/lib/queue.server.ts";
+import { createFixture, gentleChain, startWorker, uploadTestMix, waitFor, waitForRender, type Fixture, type WorkerProcess } from "../../harness/worker-harness.ts";
 
 const queueEnv = {
   TIDEMARK_QUEUE_NAMESPACE: "test-worker",

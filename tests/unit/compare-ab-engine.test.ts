@@ -6,7 +6,7 @@ import { describe, expect, it } from "vitest";
 import { AbEngine, SWITCH_RAMP_S, type BufferLike, type ContextLike, type GainLike, type SourceNodeLike } from "../../app/components/player/ab-engine.ts";
 import { playerLevelMatch } from "../../app/components/player/match.ts";
 import { computePeaks } from "../../app/components/player/peaks.ts";
-import { formatClock, formatDb } from "../../app/components/player/format.ts";
+import { formatClock, formatDb } from "../../app/lib/format.ts";
 
 class FakeParam {
   value = 1;

@@ -11,7 +11,7 @@
 import { useCallback, useEffect, useRef, useState } from "react";
 import { AbEngine, type ContextLike, type Region, type SourceId } from "./ab-engine.ts";
 import { openPair, type LoadedPart } from "./progressive-wav.ts";
-import { formatClock, formatDb } from "./format.ts";
+import { formatClock, formatDb } from "../../lib/format.ts";
 import { playerLevelMatch } from "./match.ts";
 import { MonitoringNotice, MonitoringReminder, useMonitoringAck } from "./monitoring-notice.tsx";
 import { Waveform, type WaveformComment } from "./waveform.tsx";

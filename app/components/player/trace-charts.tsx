@@ -6,7 +6,7 @@
 // it): the legend says so and only its loudness line is drawn.
 import { Area, CartesianGrid, ComposedChart, Line, ReferenceLine, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
 import type { AlignedTraces } from "../../lib/compare/traces.ts";
-import { formatClock } from "./format.ts";
+import { formatClock } from "../../lib/format.ts";
 
 const A_COLOUR = "var(--color-accent)";
 const B_COLOUR = "var(--color-ink)";

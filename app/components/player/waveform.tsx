@@ -3,7 +3,7 @@
 // A click seeks; a drag across the waveform chooses a loop region.
 import { useEffect, useMemo, useRef, useState, type PointerEvent as ReactPointerEvent } from "react";
 import type { Region } from "./ab-engine.ts";
-import { formatClock } from "./format.ts";
+import { formatClock } from "../../lib/format.ts";
 import { computePeaks } from "./peaks.ts";
 
 export type WaveformComment = { id: string; timeS: number; body?: string; resolved?: boolean };

@@ -2,14 +2,7 @@
 // drawn as areas hanging down from the 0 dB line (the values are plotted as
 // −GR), and the output's short-term loudness as a line; all on one time axis.
 import { Area, AreaChart, CartesianGrid, Line, LineChart, ResponsiveContainer, Tooltip, XAxis, YAxis } from "recharts";
-
-export type ChartTraces = {
-  stepS: number;
-  /** Seconds into the mix of the first point (a preview starts where its region does). */
-  startS: number;
-  stages: { index: number; type: string; names: string[]; points: number[][] }[];
-  shortTermLufs: (number | null)[];
-};
+import type { ChartTraces } from "../../lib/chart-traces.ts";
 
 const SERIES_COLOURS = ["#0e5f6b", "#b3672b", "#5a4f9c", "#3f7d3a", "#a3321f", "#4a4d55"];
 const STAGE_NAMES: Record<string, string> = { multiband: "Multiband dynamics", compress: "Compressor", limit: "Limiter", saturate: "Saturation" };

@@ -1,7 +1,7 @@
 // The comment threads of a render or a mix, with replies and resolve/reopen;
 // shared by the compare and review pages, whose actions take the same intents.
 import { Form } from "react-router";
-import { formatClock } from "../player/format.ts";
+import { formatClock } from "../../lib/format.ts";
 
 export type ThreadView = {
   id: string;

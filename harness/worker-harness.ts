@@ -3,15 +3,15 @@
 import { spawn, type ChildProcess } from "node:child_process";
 import { randomUUID } from "node:crypto";
 import path from "node:path";
-import { createWavWriter } from "../../dsp/io/wav-writer.ts";
-import { db } from "../../app/lib/db.server.ts";
-import { storage } from "../../app/lib/storage/storage.server.ts";
-import { addMixVersion, newMixKey, type Mix } from "../../app/models/mix.server.ts";
-import { getRender, type Render, type RenderState } from "../../app/models/render.server.ts";
-import { probeWav } from "../../dsp/io/wav-reader.ts";
+import { createWavWriter } from "../dsp/io/wav-writer.ts";
+import { db } from "../app/lib/db.server.ts";
+import { storage } from "../app/lib/storage/storage.server.ts";
+import { addMixVersion, newMixKey, type Mix } from "../app/models/mix.server.ts";
+import { getRender, type Render, type RenderState } from "../app/models/render.server.ts";
+import { probeWav } from "../dsp/io/wav-reader.ts";
 import { stat } from "node:fs/promises";
 
-export const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), "..", "..");
+export const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), "..");
 
 export type Fixture = { studioId: string; releaseId: string; trackId: string; userId: string; cleanup(): Promise<void> };
 

@@ -2,7 +2,7 @@
 // (mulberry32), white noise, sines and level steps. Levels in dBFS, where a
 // sine of amplitude 1.0 is 0 dBFS.
 
-import { dbToLinear } from "../dsp/units.ts";
+import { dbToLinear } from "../units.ts";
 
 /** Small seeded PRNG (mulberry32); returns uniform numbers in [0, 1). */
 export function createRng(seed: number): () => number {
