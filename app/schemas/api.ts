@@ -1,7 +1,7 @@
 // JSON bodies the API takes, checked with zod; strict, so a misspelt field is named.
 import { z } from "zod";
 import { RELEASE_KINDS, RELEASE_STATUSES } from "./release.ts";
-import { normalizeIsrc } from "./track.ts";
+import { isrcField } from "./track.ts";
 
 export const apiReleaseSchema = z.strictObject({
   title: z.string({ error: "must be text" }).trim().min(1, "Give the release a title").max(200, "At most 200 characters"),
@@ -14,13 +14,7 @@ export const apiReleaseSchema = z.strictObject({
 export const apiTrackSchema = z.strictObject({
   title: z.string({ error: "must be text" }).trim().min(1, "Give the track a title").max(200, "At most 200 characters"),
   position: z.number({ error: "must be a whole number" }).int("must be a whole number").min(1, "Positions start at 1").max(999, "At most 999").optional(),
-  isrc: z
-    .string({ error: "must be text" })
-    .nullable()
-    .default(null)
-    .transform((v) => (v === null ? "" : normalizeIsrc(v)))
-    .refine((v) => v === "" || /^[A-Z]{2}[A-Z0-9]{3}[0-9]{7}$/.test(v), { message: "An ISRC has 12 characters, like GB-XYZ-27-00001" })
-    .transform((v) => (v === "" ? null : v)),
+  isrc: isrcField(z.string({ error: "must be text" }).nullable().default(null)),
 });
 
 export const apiNewChainSchema = z.strictObject({

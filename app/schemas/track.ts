@@ -1,8 +1,21 @@
 import { z } from "zod";
+import { parseIsrc } from "../../dsp/delivery/isrc.ts";
 
-/** ISRC (ISO 3901) as typed by people: hyphens and spaces allowed, any case. */
-export function normalizeIsrc(raw: string): string {
-  return raw.replace(/[\s-]/g, "").toUpperCase();
+// One ISRC rule for forms, the API and delivered files: dsp/delivery/isrc.ts.
+export { formatIsrc } from "../../dsp/delivery/isrc.ts";
+
+/** An optional ISRC field: empty is none; anything else must be a valid code, stored compact. */
+export function isrcField<T extends z.ZodType<string | null | undefined>>(text: T) {
+  return text.transform((value, ctx) => {
+    const typed = (value ?? "").trim();
+    if (typed === "") return null;
+    const result = parseIsrc(typed);
+    if (!result.ok) {
+      ctx.addIssue({ code: "custom", message: result.message });
+      return z.NEVER;
+    }
+    return result.isrc;
+  });
 }
 
 export const trackSchema = z.object({
@@ -12,21 +25,9 @@ export const trackSchema = z.object({
     .int("Enter a whole number")
     .min(1, "Positions start at 1")
     .max(999, "At most 999"),
-  isrc: z
-    .string()
-    .optional()
-    .transform((value) => normalizeIsrc(value ?? ""))
-    .refine((value) => value === "" || /^[A-Z]{2}[A-Z0-9]{3}[0-9]{7}$/.test(value), {
-      message: "An ISRC has 12 characters, like GB-XYZ-27-00001",
-    })
-    .transform((value) => (value === "" ? null : value)),
+  isrc: isrcField(z.string().optional()),
 });
 export type TrackInput = z.output<typeof trackSchema>;
-
-/** Shown as CC-XXX-YY-NNNNN. */
-export function formatIsrc(isrc: string): string {
-  return `${isrc.slice(0, 2)}-${isrc.slice(2, 5)}-${isrc.slice(5, 7)}-${isrc.slice(7)}`;
-}
 
 /** Moving a track one place up or down the release's running order. */
 export const trackMoveSchema = z.object({

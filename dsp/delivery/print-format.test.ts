@@ -11,6 +11,7 @@ import { WaveFile } from "wavefile";
 import { openWav } from "../io/wav-reader.ts";
 import { createWavWriter } from "../io/wav-writer.ts";
 import { referenceIntegratedLufs, referenceTruePeakDbtp } from "../testing/ebur128-reference.ts";
+import { createRng } from "../testing/signals.ts";
 import { readBextFromWav } from "./bext-wav.ts";
 import { printDelivery } from "./print-format.ts";
 
@@ -22,10 +23,9 @@ async function writeHotSource(path: string, sampleRate: number, bitDepth: 24 | 3
   const frames = Math.round(sampleRate * 3);
   const left = new Float64Array(frames);
   const right = new Float64Array(frames);
-  let state = 12345;
+  const rng = createRng(12345);
   for (let n = 0; n < frames; n++) {
-    state = (Math.imul(state, 1664525) + 1013904223) >>> 0;
-    const noise = state / 2 ** 32 - 0.5;
+    const noise = rng() - 0.5;
     const t = n / sampleRate;
     const swell = 0.6 + 0.4 * Math.sin(2 * Math.PI * 0.7 * t); // some dynamics for the limiter to work on
     const tones = 0.5 * Math.sin(2 * Math.PI * 110 * t) + 0.3 * Math.sin(2 * Math.PI * 2500 * t + 0.3) + 0.25 * Math.sin(2 * Math.PI * 11025 * t + Math.PI / 4);

@@ -5,7 +5,8 @@
 // +-0.1 dB to 20 kHz, at least 90 dB below a tone above the new Nyquist.
 import { describe, expect, it } from "vitest";
 import { designResampler, resampleBuffer, resampledLength, Resampler } from "./resampler.ts";
-import { fitTone, rms, sine } from "../testing/tone-fit.ts";
+import { fitTone, rms } from "../testing/tone-fit.ts";
+import { sine, whiteNoise } from "../testing/signals.ts";
 import { linearToDb } from "../units.ts";
 
 const amplitude = 0.5;
@@ -15,7 +16,7 @@ const edgeFrames = (inputRate: number, outputRate: number) =>
 
 function convertTone(freqHz: number, inputRate: number, outputRate: number, seconds = 0.25) {
   const frames = Math.round(inputRate * seconds);
-  const [out] = resampleBuffer([sine(frames, freqHz, inputRate, amplitude)], frames, inputRate, outputRate);
+  const [out] = resampleBuffer([sine(frames, freqHz, inputRate, linearToDb(amplitude))], frames, inputRate, outputRate);
   const edge = edgeFrames(inputRate, outputRate);
   return { out, start: edge, end: out.length - edge };
 }
@@ -97,16 +98,6 @@ describe("resampler: every pair of 44.1 / 48 / 88.2 / 96 / 176.4 / 192 kHz", () 
   }
 });
 
-function seededNoise(frames: number, seed: number): Float64Array {
-  let state = seed >>> 0;
-  const out = new Float64Array(frames);
-  for (let n = 0; n < frames; n++) {
-    state = (Math.imul(state, 1664525) + 1013904223) >>> 0; // LCG, Numerical Recipes constants
-    out[n] = state / 2 ** 32 - 0.5;
-  }
-  return out;
-}
-
 function convertInBlocks(input: Float64Array[], inputRate: number, outputRate: number, blockSizes: number[]): Float64Array[] {
   const maxBlock = Math.max(...blockSizes);
   const resampler = new Resampler({ inputRate, outputRate, channels: input.length, maxInputFrames: maxBlock });
@@ -131,7 +122,7 @@ function convertInBlocks(input: Float64Array[], inputRate: number, outputRate: n
 
 describe("resampler: streaming", () => {
   it("gives the same output, bit for bit, whatever the block sizes (stereo noise, 48 -> 44.1 and 44.1 -> 96)", () => {
-    const input = [seededNoise(9000, 1), seededNoise(9000, 2)];
+    const input = [whiteNoise(9000, 1, 0.5), whiteNoise(9000, 2, 0.5)];
     for (const [inputRate, outputRate] of [[48000, 44100], [44100, 96000]]) {
       const reference = convertInBlocks(input, inputRate, outputRate, [9000]);
       for (const blocks of [[1], [7], [512], [3, 1000, 1, 64]]) {
@@ -143,7 +134,7 @@ describe("resampler: streaming", () => {
   });
 
   it("stereo (both channels in one loop) equals each channel converted on its own, bit for bit", () => {
-    const input = [seededNoise(9000, 3), seededNoise(9000, 4)];
+    const input = [whiteNoise(9000, 3, 0.5), whiteNoise(9000, 4, 0.5)];
     for (const [inputRate, outputRate] of [[48000, 44100], [96000, 48000]]) {
       const both = convertInBlocks(input, inputRate, outputRate, [512]);
       for (let ch = 0; ch < 2; ch++) expect(convertInBlocks([input[ch]], inputRate, outputRate, [512])[0]).toEqual(both[ch]);
@@ -154,7 +145,7 @@ describe("resampler: streaming", () => {
     const ratios = [[48000, 44100], [44100, 48000], [96000, 48000], [44100, 192000], [192000, 44100], [88200, 96000]];
     for (const [inputRate, outputRate] of ratios) {
       for (const frames of [0, 1, 2, 146, 147, 159, 160, 161, 1001, 4410]) {
-        const [out] = resampleBuffer([seededNoise(frames, 3)], frames, inputRate, outputRate);
+        const [out] = resampleBuffer([whiteNoise(frames, 3, 0.5)], frames, inputRate, outputRate);
         expect(out.length).toBe(Math.round((frames * outputRate) / inputRate));
         const resampler = new Resampler({ inputRate, outputRate, channels: 1, maxInputFrames: 64 });
         const scratch = [new Float64Array(Math.max(resampler.maxOutputFrames(64), resampler.maxFlushFrames))];
@@ -176,11 +167,11 @@ describe("resampler: streaming", () => {
   });
 
   it("reset() forgets the past", () => {
-    const input = [seededNoise(3000, 4)];
+    const input = [whiteNoise(3000, 4, 0.5)];
     const first = convertInBlocks(input, 48000, 44100, [500]);
     const resampler = new Resampler({ inputRate: 48000, outputRate: 44100, channels: 1, maxInputFrames: 3000 });
     const scratch = [new Float64Array(4000)];
-    resampler.process([seededNoise(3000, 9)], 3000, scratch);
+    resampler.process([whiteNoise(3000, 9, 0.5)], 3000, scratch);
     resampler.reset();
     const n = resampler.process(input, 3000, scratch);
     expect(scratch[0].subarray(0, n)).toEqual(first[0].subarray(0, n));

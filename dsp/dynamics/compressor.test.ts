@@ -3,10 +3,10 @@ import { Compressor, CONTROL_MIN_TIME_MS, controlFrames, controlFramesFor, type 
 import { gainReductionDb } from "./gain-computer.ts";
 import { GainSmoother } from "./gain-smoother.ts";
 import { RmsDetector } from "./rms-detector.ts";
-import { whiteNoise } from "../testing/signals.ts";
+import { sine, whiteNoise } from "../testing/signals.ts";
 import { Biquad } from "../filters/biquad.ts";
 import { BUTTERWORTH_Q, designBiquad } from "../filters/biquad-design.ts";
-import { sine } from "./dynamics.test-util.ts";
+import { linearToDb } from "../units.ts";
 
 const FS = 48000;
 
@@ -49,7 +49,7 @@ describe("static curve (analytic: hard knee (L−T)(1−1/R); quadratic knee (1�
     [-16, 3, 12],
   ])("steady 1 kHz sine at %d dBFS peak, ratio %d, knee %d dB: GR within 0.05 dB", (peakDb, ratio, kneeDb) => {
     const comp = new Compressor(FS, 1, settings({ ratio, kneeDb }), 1024);
-    const gr = grTrace(comp, sine(FS, 1000, 10 ** (peakDb / 20), FS));
+    const gr = grTrace(comp, sine(FS, 1000, FS, peakDb));
     // RMS of a sine = peak − 3.0103 dB.
     const levelDb = peakDb + 10 * Math.log10(0.5);
     const expected = gainReductionDb(levelDb, -20, ratio, kneeDb);
@@ -149,7 +149,7 @@ describe("auto release (our design targets, docs/auto-release.md)", () => {
 
   it("after a 20 ms burst the reduction falls to 10% of its peak within 150 ms", () => {
     const burst = new Float64Array(FS);
-    burst.set(sine(960, 1000, 0.5, FS), 4800);
+    burst.set(sine(960, 1000, FS, linearToDb(0.5)), 4800);
     const gr = grTrace(new Compressor(FS, 1, auto, 1024), burst);
     expect(Math.max(...gr)).toBeGreaterThan(6);
     expect(recoveryMs(gr, 4800 + 960)).toBeLessThan(150);
@@ -158,7 +158,7 @@ describe("auto release (our design targets, docs/auto-release.md)", () => {
   it("after 3 s of about 6 dB reduction the recovery takes longer than 500 ms", () => {
     // RMS −22 dBFS is 8 dB over −30 at ratio 4: 6 dB of reduction.
     const signal = new Float64Array(5 * FS);
-    signal.set(sine(3 * FS, 1000, 10 ** (-19 / 20), FS));
+    signal.set(sine(3 * FS, 1000, FS, -19));
     const gr = grTrace(new Compressor(FS, 1, auto, 1024), signal);
     expect(gr[3 * FS - 1]).toBeGreaterThan(5.8);
     expect(gr[3 * FS - 1]).toBeLessThan(6.2);
@@ -339,8 +339,8 @@ describe("the compressor's control-rate path (reference: RmsDetector → gainRed
 describe("compressor audio path", () => {
   it("applies the linked gain and makeup to both channels", () => {
     const comp = new Compressor(FS, 2, settings({ thresholdDb: -60, ratio: 1, makeupDb: 6 }), 256);
-    const l = sine(256, 440, 0.1, FS);
-    const r = sine(256, 440, 0.2, FS);
+    const l = sine(256, 440, FS, linearToDb(0.1));
+    const r = sine(256, 440, FS, linearToDb(0.2));
     const l0 = l.slice(), r0 = r.slice();
     comp.process([l, r], 256);
     for (let i = 0; i < 256; i++) {
@@ -352,7 +352,7 @@ describe("compressor audio path", () => {
   it("sidechain high-pass keeps a 30 Hz tone from triggering reduction", () => {
     const plain = new Compressor(FS, 1, settings({ thresholdDb: -20 }), 1024);
     const filtered = new Compressor(FS, 1, settings({ thresholdDb: -20, sidechainHighPassHz: 200 }), 1024);
-    const tone = sine(FS, 30, 0.5, FS);
+    const tone = sine(FS, 30, FS, linearToDb(0.5));
     const a = grTrace(plain, tone), b = grTrace(filtered, tone);
     // RMS −9 dBFS is 11 dB over −20 at ratio 4: about 8.25 dB of reduction.
     expect(a[FS - 1]).toBeGreaterThan(7);

@@ -2,14 +2,10 @@ import { describe, expect, it } from "vitest";
 import { designHalfBand, halfBandMagnitudeDb } from "./half-band.ts";
 import { Oversampler, stage1Filter, stage2Filter } from "./oversampler.ts";
 import { levelCompensation, REFERENCE_PEAK_DB, Saturator, softClip } from "./saturator.ts";
+import { sine } from "../testing/signals.ts";
+import { linearToDb } from "../units.ts";
 
 const FS = 48000;
-
-function sine(frames: number, freqHz: number, peak: number): Float64Array {
-  const out = new Float64Array(frames);
-  for (let i = 0; i < frames; i++) out[i] = peak * Math.sin((2 * Math.PI * freqHz * i) / FS);
-  return out;
-}
 
 function rmsDb(x: Float64Array, from: number, to: number): number {
   let s = 0;
@@ -77,7 +73,7 @@ describe("oversampler round trip (analytic: a tone's level through up and down, 
   it.each([2, 4] as const)("%d×: tones from 20 Hz to 20 kHz come back at their level within 0.001 dB", (factor) => {
     for (const freqHz of [20, 100, 1000, 5000, 10000, 15000, 20000]) {
       const os = new Oversampler(factor, 1, 512);
-      const x = sine(40 * 512, freqHz, 0.5);
+      const x = sine(40 * 512, freqHz, FS, linearToDb(0.5));
       const y = new Float64Array(x.length);
       const buf = new Float64Array(512);
       for (let off = 0; off < x.length; off += 512) {
@@ -124,7 +120,7 @@ describe("saturator", () => {
   });
 
   it.each([0, 6, 12, 18].flatMap((d) => [[d, 2], [d, 4]] as const))("blend 0 vs 1 at %d dB drive, %d×: level of a 1 kHz sine at the reference level within 0.5 dB", (driveDb, oversample) => {
-    const x = sine(FS / 2, 1000, 10 ** (REFERENCE_PEAK_DB / 20));
+    const x = sine(FS / 2, 1000, FS, REFERENCE_PEAK_DB);
     const dry = run(new Saturator(FS, 1, { driveDb, blend: 0, oversample }, 1000), x);
     const wet = run(new Saturator(FS, 1, { driveDb, blend: 1, oversample }, 1000), x);
     const half = run(new Saturator(FS, 1, { driveDb, blend: 0.5, oversample }, 1000), x);
@@ -135,7 +131,7 @@ describe("saturator", () => {
 
   it("blend 0 is the oversampler's round trip: the dry signal, phase-shifted only, at any drive", () => {
     const sat = new Saturator(FS, 1, { driveDb: 12, blend: 0, oversample: 2 }, 1000);
-    const x = sine(4800, 440, 0.5);
+    const x = sine(4800, 440, FS, linearToDb(0.5));
     const y = run(sat, x);
     const os = new Oversampler(2, 1, 4800);
     const ref = x.slice();
@@ -149,7 +145,7 @@ describe("saturator", () => {
     const driveDb = 9, blend = 0.4, block = 333;
     const drive = 10 ** (driveDb / 20);
     const wetGain = (blend * levelCompensation(drive, 10 ** (REFERENCE_PEAK_DB / 20))) / drive;
-    const x = [sine(9000, 7000, 0.9), sine(9000, 150, 0.6).map((v, i) => v + 0.3 * Math.sin(i * 1.7))];
+    const x = [sine(9000, 7000, FS, linearToDb(0.9)), sine(9000, 150, FS, linearToDb(0.6)).map((v, i) => v + 0.3 * Math.sin(i * 1.7))];
     const sat = new Saturator(FS, 2, { driveDb, blend, oversample: factor }, block);
     const y = x.map((c) => c.slice());
     for (let off = 0; off < 9000; off += block) {
@@ -170,7 +166,7 @@ describe("saturator", () => {
   it.each([2, 4] as const)("%d×: silence after a loud passage decays to exact zeros (no subnormal numbers), the same for any block size", (factor) => {
     const frames = 60000;
     const x = new Float64Array(frames);
-    x.set(sine(2000, 3000, 0.9));
+    x.set(sine(2000, 3000, FS, linearToDb(0.9)));
     const a = run(new Saturator(FS, 1, { driveDb: 12, blend: 0.5, oversample: factor }, 1000), x, 1000);
     const b = run(new Saturator(FS, 1, { driveDb: 12, blend: 0.5, oversample: factor }, 1000), x, 333);
     expect(Array.from(b)).toEqual(Array.from(a));
@@ -183,7 +179,7 @@ describe("saturator", () => {
   it.each([2, 4] as const)("aliasing at %d×: the 3rd harmonic of a 15 kHz tone (45 kHz → alias at 3 kHz) is far lower than without oversampling", (factor) => {
     const driveDb = 12;
     const peak = 0.5;
-    const x = sine(FS / 2, 15000, peak);
+    const x = sine(FS / 2, 15000, FS, linearToDb(peak));
     const y4 = run(new Saturator(FS, 1, { driveDb, blend: 1, oversample: factor }, 1000), x);
     // Reference without oversampling: the same curve at the base rate.
     const d = 10 ** (driveDb / 20);

@@ -1,19 +1,18 @@
-// Deterministic test signals shared by tests and benchmarks: a seeded PRNG
-// (mulberry32), white noise, sines and level steps. Levels in dBFS, where a
+// Deterministic test signals shared by tests and benchmarks: a seeded
+// generator, white noise, sines and level steps. Levels in dBFS, where a
 // sine of amplitude 1.0 is 0 dBFS.
 
 import { dbToLinear } from "../units.ts";
+import { Prng } from "../output/prng.ts";
 
-/** Small seeded PRNG (mulberry32); returns uniform numbers in [0, 1). */
+/**
+ * Uniform numbers in [0, 1) from a seed: the product's own generator
+ * (xoshiro128**, dsp/output/prng.ts, which also draws the dither), the one
+ * seeded generator of the tests, the bench and the demo seeds.
+ */
 export function createRng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const prng = new Prng(seed);
+  return () => prng.next();
 }
 
 /** Standard normal numbers from the same PRNG (Box–Muller). */

@@ -36,9 +36,3 @@ export function rms(signal: Float64Array, start = 0, end = signal.length): numbe
   for (let n = start; n < end; n++) sum += signal[n] * signal[n];
   return Math.sqrt(sum / (end - start));
 }
-
-export function sine(frames: number, freqHz: number, sampleRate: number, amplitude: number): Float64Array {
-  const out = new Float64Array(frames);
-  for (let n = 0; n < frames; n++) out[n] = amplitude * Math.sin((2 * Math.PI * freqHz * n) / sampleRate);
-  return out;
-}

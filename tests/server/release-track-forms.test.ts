@@ -72,7 +72,7 @@ describe("track form", () => {
     expect(body.errors).toEqual({
       title: "Give the track a title",
       position: "Positions start at 1",
-      isrc: "An ISRC has 12 characters, like GB-XYZ-27-00001",
+      isrc: "ISRC with hyphens must read CC-XXX-YY-NNNNN (2, 3, 2 and 5 characters)",
     });
     expect(body.values).toEqual({ title: "", position: "0", isrc: "GB-XYZ-27" });
   });

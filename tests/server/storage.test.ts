@@ -10,6 +10,7 @@ import { Readable } from "node:stream";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { assertKey, createStorage, StorageNotFoundError, type StorageDriver } from "../../app/lib/storage/storage.server.ts";
 import { PART_BYTES } from "../../app/lib/storage/s3-driver.server.ts";
+import { createRng } from "../../dsp/testing/signals.ts";
 
 async function readAll(stream: Readable): Promise<Buffer> {
   const chunks: Buffer[] = [];
@@ -20,11 +21,8 @@ async function readAll(stream: Readable): Promise<Buffer> {
 /** Deterministic bytes, so a mixed-up part or offset shows as a mismatch. */
 function patternBytes(length: number, seed: number): Buffer {
   const bytes = Buffer.alloc(length);
-  let state = seed >>> 0;
-  for (let i = 0; i < length; i++) {
-    state = (Math.imul(state, 1664525) + 1013904223) >>> 0;
-    bytes[i] = state >>> 24;
-  }
+  const rng = createRng(seed);
+  for (let i = 0; i < length; i++) bytes[i] = Math.floor(rng() * 256);
   return bytes;
 }
 

@@ -1,13 +1,13 @@
 import { describe, expect, it } from "vitest";
-import { formatIsrc, normalizeIsrc, trackSchema } from "../../app/schemas/track.ts";
+import { formatIsrc, trackSchema } from "../../app/schemas/track.ts";
 import { releaseSchema } from "../../app/schemas/release.ts";
 import { invitationSchema } from "../../app/schemas/team.ts";
 import { safeRedirectPath } from "../../app/lib/redirect.ts";
 import { parseForm } from "../../app/lib/forms.ts";
 
 describe("ISRC", () => {
-  it("accepts hyphens, spaces and lower case, and stores 12 characters", () => {
-    expect(normalizeIsrc(" zz-tdm-26 00001 ")).toBe("ZZTDM2600001");
+  it("accepts the display form, surrounding spaces and lower case, and stores 12 characters", () => {
+    expect(trackSchema.parse({ title: "A", position: "3", isrc: " zz-tdm-26-00001 " }).isrc).toBe("ZZTDM2600001");
     expect(formatIsrc("ZZTDM2600001")).toBe("ZZ-TDM-26-00001");
     expect(trackSchema.parse({ title: "A", position: "3", isrc: "zz-tdm-26-00001" })).toEqual({ title: "A", position: 3, isrc: "ZZTDM2600001" });
     expect(trackSchema.parse({ title: "A", position: "3", isrc: "" }).isrc).toBeNull();
@@ -16,6 +16,12 @@ describe("ISRC", () => {
   it("rejects a wrong length and letters where the designation code has digits", () => {
     expect(trackSchema.safeParse({ title: "A", position: "1", isrc: "ZZTDM260001" }).success).toBe(false);
     expect(trackSchema.safeParse({ title: "A", position: "1", isrc: "ZZTDM26000A1" }).success).toBe(false);
+  });
+
+  it("gives the delivery rule's specific message (dsp/delivery/isrc.ts is the one owner)", () => {
+    const result = trackSchema.safeParse({ title: "A", position: "1", isrc: "ZZ-TDM26-00001" });
+    expect(result.success).toBe(false);
+    expect(result.error?.issues[0]?.message).toMatch(/CC-XXX-YY-NNNNN/);
   });
 });
 
