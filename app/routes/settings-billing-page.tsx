@@ -1,12 +1,12 @@
 // /settings/billing — the owner's rates (per track, per extra revision),
-// currency and the loudness reference levels of reports, as a form. Saving
-// goes through the studio-billing action (zod, errors beside the fields).
-import { Form, Link, redirect } from "react-router";
+// currency and the loudness reference levels of reports, as a form. Field
+// errors answer 400 beside the fields; a save comes back here, "Saved."
+import { data, Form, Link, redirect } from "react-router";
 import type { Route } from "./+types/settings-billing-page";
 import { requireRole } from "../lib/auth.server.ts";
-import { formatCents } from "../lib/billing/settings-form.ts";
-import { getStudioSettings } from "../models/studio-settings.server.ts";
-import { action as saveBilling } from "./studio-billing.ts";
+import { billingSettingsSchema, formatCents } from "../lib/billing/settings-form.ts";
+import { formValues, parseForm } from "../lib/forms.ts";
+import { getStudioSettings, saveStudioSettings } from "../models/studio-settings.server.ts";
 import { FormNotice, TextField } from "../components/field.tsx";
 import { PageHeader } from "../components/page-header.tsx";
 
@@ -25,10 +25,18 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const result = await saveBilling({ request });
-  // Saved: the shared action answers with a redirect; come back here instead.
-  if (result instanceof Response) return redirect("/settings/billing?saved=1");
-  return result;
+  const user = await requireRole(request, ["owner"]);
+  const form = await request.formData();
+  const result = parseForm(billingSettingsSchema, form);
+  if (!result.ok) return data({ errors: result.errors, values: result.values }, { status: 400 });
+  const { currency, trackRate, revisionRate, references } = result.data;
+  try {
+    await saveStudioSettings(user.studioId, { currency, trackRateCents: trackRate, revisionRateCents: revisionRate, normalisationReferences: references });
+  } catch (error) {
+    if (error instanceof RangeError || error instanceof TypeError) return data({ errors: { references: error.message }, values: formValues(form) }, { status: 400 });
+    throw error;
+  }
+  return redirect("/settings/billing?saved=1");
 }
 
 export default function SettingsBilling({ loaderData, actionData }: Route.ComponentProps) {

@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startPaymentsFake, type PaymentsFake } from "../../scripts/fakes/payments.ts";
 import { db } from "../../app/lib/db.server.ts";
 import { action } from "../../app/routes/release-invoice.ts";
-import { action as settingsAction } from "../../app/routes/studio-billing.ts";
+import { action as settingsAction } from "../../app/routes/settings-billing-page.tsx";
 import { formatCents, parseMoneyCents } from "../../app/lib/billing/settings-form.ts";
 import { getStudioSettings, saveStudioSettings } from "../../app/models/studio-settings.server.ts";
 import { getInvoiceForRelease } from "../../app/models/invoice.server.ts";
@@ -76,7 +76,8 @@ describe("the invoice route", () => {
 });
 
 describe("the billing settings route", () => {
-  const save = (persona: Persona, form: Record<string, string>) => settingsAction({ request: requestAs(fixture, persona, "/settings/billing", { form }) });
+  const save = (persona: Persona, form: Record<string, string>) =>
+    settingsAction({ request: requestAs(fixture, persona, "/settings/billing", { form }), params: {}, context: {} } as never);
   const good = { currency: "gbp", trackRate: "180", revisionRate: "45.5", references: "Streaming reference: -14\nNight listening: -18.5\n" };
 
   it("reads money as exact cents", () => {
@@ -92,7 +93,7 @@ describe("the billing settings route", () => {
     expect(await outcomeOf(() => save("engineer", good))).toBe("404");
     expect(await outcomeOf(() => save("client", good))).toBe("404");
     const res = (await save("owner", good)) as Response;
-    expect(res.headers.get("Location")).toBe("/settings#billing");
+    expect(res.headers.get("Location")).toBe("/settings/billing?saved=1");
     expect(await getStudioSettings(fixture.studioId)).toMatchObject({
       currency: "GBP",
       trackRateCents: 18_000,
