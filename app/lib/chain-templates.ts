@@ -34,7 +34,7 @@ export const CHAIN_TEMPLATES: readonly ChainTemplate[] = [
     },
   },
   {
-    name: "Open and loud",
+    name: "Hot and dense",
     params: {
       stages: [
         { type: "eq", bands: [

@@ -102,7 +102,7 @@ export default function RenderNew({ loaderData, actionData }: Route.ComponentPro
             </fieldset>
           )}
           <TextField
-            label="Loudness target (LUFS, optional)"
+            label="Target loudness (LUFS, optional)"
             name="targetLufs"
             inputMode="decimal"
             defaultValue={values.targetLufs}

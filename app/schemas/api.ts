@@ -2,6 +2,9 @@
 import { z } from "zod";
 import { RELEASE_KINDS, RELEASE_STATUSES } from "./release.ts";
 import { isrcField } from "./track.ts";
+import { OUTPUT_FIELDS } from "../../dsp/chain/fields.ts";
+
+const TARGET = OUTPUT_FIELDS.targetLufs;
 
 export const apiReleaseSchema = z.strictObject({
   title: z.string({ error: "must be text" }).trim().min(1, "Give the release a title").max(200, "At most 200 characters"),
@@ -39,6 +42,11 @@ export const apiRenderSchema = z
       .refine((r) => r.endS > r.startS, { message: "must end after it starts", path: ["endS"] })
       .nullable()
       .default(null),
-    targetLufs: z.number({ error: "must be a number of LUFS" }).min(-70, "must be at least -70").max(0, "must be at most 0").nullable().default(null),
+    targetLufs: z
+      .number({ error: "must be a number of LUFS" })
+      .min(TARGET.min, `must be at least ${TARGET.min}`)
+      .max(TARGET.max, `must be at most ${TARGET.max}`)
+      .nullable()
+      .default(null),
   })
   .refine((v) => !(v.kind === "print" && v.region), { message: "a print renders the whole mix; only a preview has a region", path: ["region"] });

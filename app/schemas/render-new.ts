@@ -1,5 +1,10 @@
 // The new-render form, checked in the browser's shape and again on the server.
 import { z } from "zod";
+import { OUTPUT_FIELDS } from "../../dsp/chain/fields.ts";
+
+const TARGET = OUTPUT_FIELDS.targetLufs;
+/** "−40" with a true minus sign, as the page prints numbers. */
+const signed = (n: number) => String(n).replace("-", "−");
 
 const optionalNumber = (message: string) =>
   z
@@ -20,8 +25,8 @@ export const renderNewSchema = z
     targetLufs: optionalNumber("Enter a loudness in LUFS, e.g. −14"),
   })
   .superRefine((v, ctx) => {
-    if (v.targetLufs !== null && (v.targetLufs < -70 || v.targetLufs > 0)) {
-      ctx.addIssue({ code: "custom", path: ["targetLufs"], message: "A target between −70 and 0 LUFS" });
+    if (v.targetLufs !== null && (v.targetLufs < TARGET.min || v.targetLufs > TARGET.max)) {
+      ctx.addIssue({ code: "custom", path: ["targetLufs"], message: `A target between ${signed(TARGET.min)} and ${signed(TARGET.max)} LUFS` });
     }
     if (v.kind !== "preview" || v.region !== "range") return;
     if (v.startS === null) ctx.addIssue({ code: "custom", path: ["startS"], message: "Enter where the preview starts, in seconds" });

@@ -51,6 +51,11 @@ export const LIMIT_FIELDS = {
 } as const satisfies Record<string, FieldRange>;
 
 export const OUTPUT_FIELDS = {
+  /**
+   * The one target-loudness range: a chain's target and a render's (the
+   * new-render form and the API). No default: without a target the level is
+   * the chain's own, and switched on in the editor the field starts empty.
+   */
   targetLufs: { min: -40, max: -5, step: 0.1, unit: "LUFS", label: "Target loudness" },
 } as const satisfies Record<string, FieldRange>;
 

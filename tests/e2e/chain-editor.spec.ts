@@ -1,7 +1,8 @@
 // The chain editor in Chromium against the production build and the demo
 // seed: an engineer starts a chain from the gentle template on a demo track,
-// meets a field error for an out-of-range ratio (the value stays), saves a
-// second revision and reads the diff; the page fits a phone.
+// reads the optional fields' checkboxes, meets a field error for an
+// out-of-range ratio (the value stays), saves a second revision and reads
+// the diff; the page fits a phone.
 import { mkdirSync } from "node:fs";
 import { expect, test, type Page } from "@playwright/test";
 import { signIn } from "./demo-sign-in.ts";
@@ -33,6 +34,19 @@ test("an engineer makes a chain from the gentle template, meets a field error, s
   await expect(multiband.getByLabel("Crossover 1 (Hz)")).toHaveValue("90");
   await expect(multiband.getByLabel("Crossover 3 (Hz)")).toHaveValue("3000");
   await expect(multiband.getByRole("group", { name: "Band 4" })).toBeVisible();
+
+  // Each checkbox says what checked means: the bus compressor's 90 Hz
+  // sidechain high-pass is on, its release is auto; the chain has no target
+  // loudness, and switching one on leaves the field empty to type.
+  await expect(bus.getByRole("checkbox", { name: "Sidechain high-pass" })).toBeChecked();
+  await expect(bus.getByLabel("Sidechain high-pass (Hz)")).toHaveValue("90");
+  await expect(bus.getByRole("checkbox", { name: "Auto release" })).toBeChecked();
+  const target = page.getByRole("checkbox", { name: "Target loudness" });
+  await expect(target).not.toBeChecked();
+  await target.check();
+  await expect(page.getByLabel("Target loudness (LUFS)")).toHaveValue("");
+  await target.uncheck();
+  await expect(page.getByLabel("Target loudness (LUFS)")).toHaveCount(0);
 
   // Out of range: the server refuses, the error sits beside the field, the value stays.
   await ratio.fill("40");

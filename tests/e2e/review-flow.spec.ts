@@ -251,7 +251,7 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   await engineerAudio.evaluate((a: HTMLAudioElement) => a.pause());
 
   // Renders again, through another template, and sends that with a note.
-  const second = await renderPreview(engineer, "Open and loud");
+  const second = await renderPreview(engineer, "Hot and dense");
   await sendFromRenderPage(engineer, second, `Second pass of ${trackTitle}.`);
   const secondLink = await reviewLinkFromMail(CLIENT, `Second pass of ${trackTitle}.`, seen);
 

@@ -54,7 +54,7 @@ describe("render form", () => {
     const values = { mixId: stored.mixId, chainRevisionId: template.id, kind: "preview", region: "range", startS: "5", endS: "2", targetLufs: "-80" };
     const { status, body } = dataOf<{ errors: Record<string, string>; values: Record<string, string> }>(await submit(values));
     expect(status).toBe(400);
-    expect(body.errors).toEqual({ endS: "The end comes after the start", targetLufs: "A target between −70 and 0 LUFS" });
+    expect(body.errors).toEqual({ endS: "The end comes after the start", targetLufs: "A target between −40 and −5 LUFS" });
     expect(body.values).toEqual(values);
   });
 

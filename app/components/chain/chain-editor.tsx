@@ -139,15 +139,47 @@ function Toggle({ ctx, path, label, value }: { ctx: Ctx; path: Path; label: stri
   );
 }
 
-/** A number that may also be switched off (null) or set to "auto". */
-function OptionalNumber({ ctx, path, range, value, off, offLabel }: { ctx: Ctx; path: Path; range: FieldRange; value: unknown; off: unknown; offLabel: string }) {
+/**
+ * A number that may be switched off (null or absent) or set to "auto". The
+ * checkbox's label says what checked means: "Sidechain high-pass" and
+ * "Target loudness" checked are on (with the number below), "Auto release"
+ * checked is auto. Switched on, the number starts at `numberWhenOn` (empty:
+ * the engineer types it).
+ */
+function OptionalNumber({
+  ctx,
+  path,
+  range,
+  value,
+  off,
+  checkboxLabel,
+  checkedMeans,
+  numberWhenOn,
+}: {
+  ctx: Ctx;
+  path: Path;
+  range: FieldRange;
+  value: unknown;
+  off: unknown;
+  checkboxLabel: string;
+  checkedMeans: "on" | "off";
+  numberWhenOn: number | "";
+}) {
   const isOff = value === off || value === undefined;
-  const fallback = range.default ?? Math.min(range.max, Math.max(range.min, 100));
+  const checked = checkedMeans === "on" ? !isOff : isOff;
   return (
     <div>
       <label className="mb-1 inline-flex items-center gap-2 text-sm">
-        <input type="checkbox" checked={isOff} data-path={`${key(path)}:${offLabel}`} onChange={(e) => ctx.set(path, e.target.checked ? off : fallback)} />
-        {range.label}: {offLabel}
+        <input
+          type="checkbox"
+          checked={checked}
+          data-path={`${key(path)}:${checkedMeans}`}
+          onChange={(e) => {
+            const on = checkedMeans === "on" ? e.target.checked : !e.target.checked;
+            ctx.set(path, on ? numberWhenOn : off);
+          }}
+        />
+        {checkboxLabel}
       </label>
       {isOff ? (
         <ErrorText id={`${key(path)}-error`} error={ctx.errors[key(path)]} />
@@ -168,10 +200,10 @@ function CompressFields({ ctx, path, values }: { ctx: Ctx; path: Path; values: J
       <NumberInput ctx={ctx} path={[...path, "ratio"]} range={f.ratio} value={values.ratio} />
       <NumberInput ctx={ctx} path={[...path, "kneeDb"]} range={f.kneeDb} value={values.kneeDb} />
       <NumberInput ctx={ctx} path={[...path, "attackMs"]} range={f.attackMs} value={values.attackMs} />
-      <OptionalNumber ctx={ctx} path={[...path, "releaseMs"]} range={f.releaseMs} value={values.releaseMs} off="auto" offLabel="auto" />
+      <OptionalNumber ctx={ctx} path={[...path, "releaseMs"]} range={f.releaseMs} value={values.releaseMs} off="auto" checkboxLabel="Auto release" checkedMeans="off" numberWhenOn={100} />
       <NumberInput ctx={ctx} path={[...path, "makeupDb"]} range={f.makeupDb} value={values.makeupDb} />
       <NumberInput ctx={ctx} path={[...path, "rmsWindowMs"]} range={f.rmsWindowMs} value={values.rmsWindowMs} />
-      <OptionalNumber ctx={ctx} path={[...path, "sidechainHighPassHz"]} range={f.sidechainHighPassHz} value={values.sidechainHighPassHz} off={null} offLabel="off" />
+      <OptionalNumber ctx={ctx} path={[...path, "sidechainHighPassHz"]} range={f.sidechainHighPassHz} value={values.sidechainHighPassHz} off={null} checkboxLabel="Sidechain high-pass" checkedMeans="on" numberWhenOn={100} />
     </div>
   );
 }
@@ -317,7 +349,7 @@ function OutputFields({ ctx, output }: { ctx: Ctx; output: Json }) {
       </div>
       <SelectInput ctx={ctx} path={["output", "bitDepth"]} label="Bit depth" value={output.bitDepth ?? 24} options={BIT_DEPTHS} />
       <SelectInput ctx={ctx} path={["output", "dither"]} label="Dither" value={output.dither ?? "tpdf"} options={DITHERS} />
-      <OptionalNumber ctx={ctx} path={["output", "targetLufs"]} range={OUTPUT_FIELDS.targetLufs} value={output.targetLufs} off={undefined} offLabel="none" />
+      <OptionalNumber ctx={ctx} path={["output", "targetLufs"]} range={OUTPUT_FIELDS.targetLufs} value={output.targetLufs} off={undefined} checkboxLabel="Target loudness" checkedMeans="on" numberWhenOn="" />
     </div>
   );
 }
