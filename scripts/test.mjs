@@ -7,7 +7,7 @@
 //   --services   prepare, print the environment, and keep the services up (for working on tests)
 //   --no-e2e     skip the browser tests
 //   --unit=A,B   vitest on these paths only (--unit= skips vitest)
-//   --e2e=A,B    Playwright on these specs only
+//   --e2e=A,B    Playwright on these specs only (--e2e= skips it)
 import { rmSync } from "node:fs";
 import { spawn, spawnSync } from "node:child_process";
 import { root, portOffset, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
@@ -16,13 +16,14 @@ import { startFakes } from "./fakes.mjs";
 
 const servicesOnly = process.argv.includes("--services");
 const checks = process.argv.includes("--checks") && !servicesOnly;
-const e2e = !process.argv.includes("--no-e2e") && !servicesOnly;
 const listArg = (name) => {
   const arg = process.argv.find((a) => a.startsWith(`--${name}=`));
   return arg === undefined ? null : arg.slice(name.length + 3).split(",").filter(Boolean);
 };
 const unitOnly = listArg("unit");
 const e2eOnly = listArg("e2e");
+// --e2e= with nothing skips the browser tests, as --unit= with nothing skips vitest.
+const e2e = !process.argv.includes("--no-e2e") && !servicesOnly && !(e2eOnly !== null && e2eOnly.length === 0);
 const webPort = Number(process.env.TEST_PORT ?? 3100 + portOffset);
 
 ensureNodeModules();
