@@ -11,6 +11,9 @@ export default [
   route("releases/:releaseId/package.zip", "routes/release-package.ts"),
   route("releases/:releaseId/loudness-report.csv", "routes/release-loudness-report.ts"),
   route("releases/:releaseId/invoice", "routes/release-invoice.ts"),
+  // Reference tracks: staff only (404 for anyone else).
+  route("releases/:releaseId/references", "routes/reference-upload.ts"),
+  route("releases/:releaseId/references/:referenceId/audio", "routes/reference-audio.ts"),
   // The JSON API: resource routes, signed in by a bearer token or the session cookie.
   ...prefix("api", [
     route("releases", "routes/api.releases.ts"),
@@ -37,6 +40,7 @@ export default [
       route(":releaseId/edit", "routes/release-edit.tsx"),
       route(":releaseId/delivery", "routes/release-delivery.tsx"),
       route(":releaseId/loudness-report", "routes/loudness-report.tsx"),
+      route(":releaseId/room", "routes/review-room.tsx"),
       route(":releaseId/tracks/new", "routes/track-new.tsx"),
       route(":releaseId/tracks/:trackId", "routes/track.tsx"),
       route(":releaseId/tracks/:trackId/edit", "routes/track-edit.tsx"),

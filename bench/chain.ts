@@ -9,7 +9,7 @@
 // Run: npx tsx bench/chain.ts  (or through bench/run.ts)
 
 import { spawnSync } from "node:child_process";
-import { mkdtempSync, rmSync } from "node:fs";
+import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { loadavg, tmpdir } from "node:os";
 import { join } from "node:path";
 import { pathToFileURL } from "node:url";
@@ -38,6 +38,14 @@ export const BENCH_CHAIN: ChainInput = {
   ],
   output: { bitDepth: 24, dither: "tpdf" },
 };
+
+/** The resonance and tape stages, timed one at a time (not in BENCH_CHAIN, so its figures stay comparable). */
+export const NEW_STAGES: [string, NonNullable<ChainInput["stages"]>[number]][] = [
+  ["resonance (STFT 2048, stereo)", { type: "resonance", lowHz: 1000, highHz: 8000, thresholdDb: 4, maxCutDb: 6, attackMs: 20, releaseMs: 150, blend: 1, listen: "output" }],
+  ["tape 4×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 4 }],
+  ["tape 2×", { type: "tape", driveDb: 6, bumpHz: 70, bumpDb: 2, rolloffHz: 18000, blend: 1, oversample: 2 }],
+  ["saturate 4× (for comparison)", { type: "saturate", driveDb: 6, blend: 1, oversample: 4 }],
+];
 
 export function chainOf(input: ChainInput): Chain {
   const r = parseChain(input);
@@ -109,6 +117,62 @@ function ffmpegGraph(): string {
   ].join("");
 }
 
+const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+
+/** Wall time of a command, in ms (pinned to core 0 when taskset is there). */
+function timed(cmd: string, args: string[]): { ms: number; ok: boolean; stderr: string } {
+  const pinned = spawnSync("taskset", ["--version"]).status === 0;
+  const t0 = performance.now();
+  const r = pinned ? spawnSync("taskset", ["-c", "0", cmd, ...args], { encoding: "utf8" }) : spawnSync(cmd, args, { encoding: "utf8" });
+  return { ms: performance.now() - t0, ok: r.status === 0, stderr: r.stderr ?? "" };
+}
+
+/**
+ * Whole processes as a user runs them, one core each (taskset -c 0), three
+ * runs each, alternated: `tidemark render` / `tidemark analyze` (the
+ * compiled command; run `node scripts/build-dsp.mjs` first) against ffmpeg's
+ * graph with one filter thread (-filter_complex_threads 1 -threads 1; the
+ * -filter_threads option does not apply to -filter_complex) and its
+ * ebur128=peak=true. Medians, every run, and the graph are printed.
+ */
+async function wholeProcesses(dir: string, input: string, seconds: number): Promise<void> {
+  const bin = join(import.meta.dirname, "..", "bin", "tidemark.js");
+  const chainPath = join(dir, "chain.json");
+  writeFileSync(chainPath, JSON.stringify(BENCH_CHAIN));
+  const help = [0, 1, 2, 3, 4].map(() => timed(process.execPath, [bin, "--help"]));
+  if (!help[0].ok) {
+    console.log(`tidemark command not runnable (${help[0].stderr.trim()}): whole-process comparison skipped`);
+    return;
+  }
+  console.log(`tidemark --help: median ${median(help.map((h) => h.ms)).toFixed(0)} ms wall (runs ${help.map((h) => h.ms.toFixed(0)).join(", ")} ms)`);
+  const hasFfmpeg = spawnSync("ffmpeg", ["-version"]).status === 0;
+  const graph = ffmpegGraph();
+  const jobs = {
+    "tidemark render": () => timed(process.execPath, [bin, "render", input, "--chain", chainPath, "--out", join(dir, "cli.wav")]),
+    "ffmpeg graph": () => timed("ffmpeg", ["-v", "error", "-y", "-threads", "1", "-filter_complex_threads", "1", "-i", input, "-filter_complex", graph, "-c:a", "pcm_s24le", join(dir, "ff.wav")]),
+    "tidemark analyze": () => timed(process.execPath, [bin, "analyze", input]),
+    "ffmpeg ebur128": () => timed("ffmpeg", ["-v", "error", "-threads", "1", "-filter_complex_threads", "1", "-i", input, "-filter_complex", "ebur128=peak=true", "-f", "null", "-"]),
+  };
+  const runs: Record<string, number[]> = {};
+  for (let round = 0; round < 3; round++) {
+    for (const [name, job] of Object.entries(jobs)) {
+      if (name.startsWith("ffmpeg") && !hasFfmpeg) continue;
+      const r = job();
+      if (!r.ok) throw new Error(`${name} failed: ${r.stderr.trim()}`);
+      (runs[name] ??= []).push(r.ms);
+    }
+  }
+  console.log(`whole processes, ${MINUTES} min stereo 48 kHz 24-bit, one core (taskset -c 0), 3 runs each alternated:`);
+  for (const [name, ms] of Object.entries(runs)) {
+    console.log(`  ${name.padEnd(17)} median ${(median(ms) / 1000).toFixed(2)} s (${(seconds / (median(ms) / 1000)).toFixed(0)}x real time); runs ${ms.map((m) => (m / 1000).toFixed(2)).join(", ")} s`);
+  }
+  if (hasFfmpeg) {
+    console.log(`  ffmpeg graph: ${graph}`);
+    console.log(`  render: tidemark is ${(median(runs["ffmpeg graph"]) / median(runs["tidemark render"])).toFixed(2)}x ffmpeg's speed (target ≥ 1.5; tidemark also meters input and output)`);
+    console.log(`  analysis: tidemark is ${(median(runs["ffmpeg ebur128"]) / median(runs["tidemark analyze"])).toFixed(2)}x ffmpeg's speed (target ≥ 2)`);
+  } else console.log("  ffmpeg not on PATH: its side skipped (apt-get install -y ffmpeg)");
+}
+
 /** ns per multiply-add of a plain loop: tells how loaded or slow the machine is. */
 function calibrationNs(): number {
   const a = new Float64Array(4096).map((_, i) => i / 4096);
@@ -151,16 +215,13 @@ export async function run(): Promise<void> {
     console.log(`  output ${res.output.integratedLufs.toFixed(2)} LUFS, ${res.output.truePeakDbtp.toFixed(2)} dBTP`);
     console.log("  per stage (10 s of noise in memory, best of 5), ns per sample per channel:");
     for (const s of perStageNs(chain, 10)) console.log(`    ${s.type.padEnd(34)} ${s.nsPerSample.toFixed(1)}`);
+    console.log("  resonance and tape stages, alone (the same noise, best of 5; targets: resonance ≤ 60, tape ≤ 30 at 4×):");
+    for (const [label, stage] of NEW_STAGES) {
+      const ns = perStageNs(chainOf({ stages: [stage] }), 10).find((s) => s.type === stage.type)!.nsPerSample;
+      console.log(`    ${label.padEnd(34)} ${ns.toFixed(1)}`);
+    }
 
-    if (spawnSync("ffmpeg", ["-version"]).status === 0) {
-      const f0 = performance.now();
-      const r = spawnSync("ffmpeg", ["-v", "error", "-y", "-threads", "1", "-filter_threads", "1", "-i", input, "-filter_complex", ffmpegGraph(), "-c:a", "pcm_s24le", join(dir, "ff.wav")], { encoding: "utf8" });
-      const fms = performance.now() - f0;
-      if (r.status === 0) {
-        console.log(`ffmpeg graph (eq x4, acrossover 4 bands + acompressor each, acompressor, alimiter; one thread): ${(fms / 1000).toFixed(2)} s, ${(seconds / (fms / 1000)).toFixed(1)}x real time`);
-        console.log(`  speed ratio tidemark/ffmpeg: ${(fms / ms).toFixed(2)} (above 1 = tidemark faster; tidemark also meters input and output)`);
-      } else console.log(`ffmpeg graph failed: ${r.stderr.trim()}`);
-    } else console.log("ffmpeg not on PATH: comparison skipped");
+    await wholeProcesses(dir, input, seconds);
 
     if (process.env.TIDEMARK_BENCH_LONG === "1") {
       // TIDEMARK_BENCH_LONG_MINUTES shortens it (memory should not depend on length).

@@ -5,11 +5,13 @@
 import { existsSync } from "node:fs";
 import { join } from "node:path";
 
-const MODULES = ["analysis", "chain", "pipeline", "delivery"];
+const MODULES = ["analysis", "chain", "pipeline", "delivery", "desk", "load"];
 
 const wanted = process.argv.slice(2);
 for (const name of MODULES) {
   if (wanted.length > 0 && !wanted.includes(name)) continue;
+  // The load run needs a build and a database: only when asked for by name.
+  if (name === "load" && !wanted.includes("load")) continue;
   const file = join(import.meta.dirname, `${name}.ts`);
   if (!existsSync(file)) continue;
   const mod = (await import(file)) as { run?: () => Promise<void> };

@@ -110,3 +110,58 @@ export function fade(x: Float64Array, fadeFrames: number): Float64Array {
   }
   return x;
 }
+
+/**
+ * Pink noise (−3 dB per octave) from seeded Gaussian white noise through
+ * Paul Kellet's "refined" filter (music-dsp archive; from memory: within
+ * ±0.05 dB of 1/f above 9.2 Hz, designed for 44.1 kHz). RMS about 0.11 · scale.
+ */
+export function pinkNoise(frames: number, seed: number, scale = 1): Float64Array {
+  const g = createGaussian(seed);
+  const out = new Float64Array(frames);
+  let b0 = 0, b1 = 0, b2 = 0, b3 = 0, b4 = 0, b5 = 0, b6 = 0;
+  for (let i = 0; i < frames; i++) {
+    const white = g() * 0.05;
+    b0 = 0.99886 * b0 + white * 0.0555179;
+    b1 = 0.99332 * b1 + white * 0.0750759;
+    b2 = 0.969 * b2 + white * 0.153852;
+    b3 = 0.8665 * b3 + white * 0.3104856;
+    b4 = 0.55 * b4 + white * 0.5329522;
+    b5 = -0.7616 * b5 - white * 0.016898;
+    out[i] = (b0 + b1 + b2 + b3 + b4 + b5 + b6 + white * 0.5362) * scale;
+    b6 = white * 0.115926;
+  }
+  return out;
+}
+
+/**
+ * Linear-phase low-pass (Kaiser-windowed sinc, 257 taps, β 8, cutoff
+ * 0.44·fs): flat to about 0.43·fs and about 80 dB down from 0.45·fs, as a
+ * converter's decimation filter leaves recorded sound. Zero-padded edges.
+ */
+export function bandLimited(x: Float64Array, cutoff = 0.44): Float64Array {
+  const half = 128, beta = 8;
+  const i0 = (v: number) => {
+    let s = 1, t = 1;
+    for (let k = 1; k < 60; k++) {
+      t *= (v / (2 * k)) ** 2;
+      s += t;
+    }
+    return s;
+  };
+  const h = new Float64Array(2 * half + 1);
+  let sum = 0;
+  for (let n = -half; n <= half; n++) {
+    const s = n === 0 ? 2 * cutoff : Math.sin(2 * Math.PI * cutoff * n) / (Math.PI * n);
+    const r = n / (half + 1);
+    sum += h[n + half] = (s * i0(beta * Math.sqrt(1 - r * r))) / i0(beta);
+  }
+  const y = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) {
+    let acc = 0;
+    const lo = Math.max(-half, i - x.length + 1), hi = Math.min(half, i);
+    for (let k = lo; k <= hi; k++) acc += h[k + half] * x[i - k];
+    y[i] = acc / sum;
+  }
+  return y;
+}

@@ -1,5 +1,5 @@
-// Analysis of a WAV file: streams it through the loudness meter in blocks and
-// adds the file's format. Memory stays flat whatever the file's length.
+// Analysis of a WAV file: streams it through the loudness meter (with the
+// third-octave spectrum) in blocks and adds the file's format. Memory stays flat whatever the file's length.
 
 import { openWav } from "./io/wav-reader.ts";
 import { type LoudnessAnalysis, LoudnessMeter } from "./loudness/meter.ts";
@@ -18,6 +18,8 @@ export interface AnalyzeOptions {
   onProgress?: (fraction: number) => void;
   /** Frames per read; default 65536. */
   blockFrames?: number;
+  /** Measure the third-octave spectrum in the same pass; default true (false only to measure its cost). */
+  spectrum?: boolean;
 }
 
 const DEFAULT_BLOCK_FRAMES = 65536;
@@ -27,7 +29,7 @@ export async function analyzeFile(path: string, options: AnalyzeOptions = {}): P
   try {
     const { format } = reader;
     const blockFrames = options.blockFrames ?? DEFAULT_BLOCK_FRAMES;
-    const meter = new LoudnessMeter(format.sampleRate, format.channels, { truePeak: true });
+    const meter = new LoudnessMeter(format.sampleRate, format.channels, { truePeak: true, spectrum: options.spectrum ?? true });
     const buffers = Array.from({ length: format.channels }, () => new Float64Array(blockFrames));
     let done = 0;
     for (;;) {

@@ -4,7 +4,7 @@
 // line with "ready" once it does.
 import { existsSync } from "node:fs";
 import path from "node:path";
-import { root, portOffset, log, spawnService, waitForPort, portFree } from "./lib.mjs";
+import { root, portOffset, log, supervise, waitForPort, portFree } from "./lib.mjs";
 
 // name → script, port variable, ports for dev and test, environment given to the app
 const FAKES = [
@@ -23,7 +23,7 @@ export async function startFakes(children, mode, { publicUrl } = {}) {
     const port = fake.ports[mode] + portOffset;
     const fakeEnv = fake.env(port, mode);
     if (await portFree(port)) {
-      const child = spawnService("npx", ["tsx", fake.script], {
+      const child = supervise(`fake ${fake.name}`, "npx", ["tsx", fake.script], {
         env: { ...process.env, FAKE_PORT: String(port), FAKE_MODE: mode, ...(publicUrl ? { FAKE_PAYMENTS_WEBHOOK_URL: `${publicUrl}/api/payments/webhook` } : {}), ...fakeEnv },
         stdio: ["ignore", "inherit", "inherit"],
       });

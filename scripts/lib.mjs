@@ -139,3 +139,73 @@ export function spawnService(cmd, args, options = {}) {
 }
 
 export { spawn, mkdirSync, chownSync, existsSync };
+
+/** True while any process of the child's group is alive. */
+function groupAlive(child) {
+  if (!child?.pid) return false;
+  try {
+    process.kill(-child.pid, 0);
+    return true;
+  } catch {
+    return child.exitCode === null && child.signalCode === null;
+  }
+}
+
+/**
+ * A long-running child that is started again when it dies on its own, after
+ * a back-off that doubles from 0.5 s to 15 s (and starts over once it has
+ * run for 30 s), each time logged. Only `stopGroup` ends it for good.
+ */
+export function supervise(name, cmd, args, options = {}) {
+  const handle = { name, child: null, stopping: false, restarts: 0, timer: null };
+  let backoffMs = 500;
+  const startOne = () => {
+    const startedAt = Date.now();
+    const child = spawnService(cmd, args, options);
+    handle.child = child;
+    child.on("exit", (code, signal) => {
+      if (handle.stopping) return;
+      // What the group started may still run (npx and tsx put the program in a grandchild).
+      try {
+        process.kill(-child.pid, "SIGKILL");
+      } catch {}
+      if (Date.now() - startedAt > 30_000) backoffMs = 500;
+      log(`${name} stopped (${code ?? signal}); starting it again in ${backoffMs} ms`);
+      handle.restarts += 1;
+      handle.timer = setTimeout(startOne, backoffMs);
+      backoffMs = Math.min(backoffMs * 2, 15_000);
+    });
+  };
+  startOne();
+  handle.stopGroup = (signal = "SIGTERM") => {
+    handle.stopping = true;
+    clearTimeout(handle.timer);
+    if (!handle.child) return;
+    try {
+      process.kill(-handle.child.pid, signal);
+    } catch {
+      handle.child.kill(signal);
+    }
+  };
+  handle.alive = () => groupAlive(handle.child);
+  return handle;
+}
+
+/**
+ * Stops children (supervised or plain): SIGTERM to each group, then SIGKILL
+ * to whatever is left after `graceMs`, so everything is gone within about
+ * graceMs + 0.2 s.
+ */
+export async function stopChildren(children, graceMs = 4_000) {
+  for (const child of children) child.stopGroup("SIGTERM");
+  const alive = (c) => (c.alive ? c.alive() : groupAlive(c));
+  const deadline = Date.now() + graceMs;
+  while (Date.now() < deadline && children.some(alive)) await new Promise((r) => setTimeout(r, 100));
+  for (const child of children.filter(alive)) {
+    const pid = child.child?.pid ?? child.pid;
+    log(`${child.name ?? "a child"} did not stop in ${graceMs} ms; killing it`);
+    try {
+      process.kill(-pid, "SIGKILL");
+    } catch {}
+  }
+}

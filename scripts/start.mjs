@@ -1,11 +1,12 @@
 #!/usr/bin/env node
 // `npm start`: installs what is missing, starts PostgreSQL and the local fakes
 // on loopback, migrates, seeds the demo when empty, builds, and serves.
-// Ctrl-C stops everything it started.
+// A child that dies (web, worker, a fake) is started again with back-off;
+// only Ctrl-C or SIGTERM stops everything, all of it within 5 s.
 import { existsSync, readFileSync, writeFileSync, mkdirSync } from "node:fs";
 import { randomBytes } from "node:crypto";
 import path from "node:path";
-import { root, portOffset, log, fail, run, ensureNodeModules, portFree, spawnService } from "./lib.mjs";
+import { root, portOffset, log, fail, run, ensureNodeModules, portFree, supervise, stopChildren } from "./lib.mjs";
 import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
@@ -17,8 +18,12 @@ ensureNodeModules();
 
 const children = [];
 let pg = null;
-function stopAll(code = 0) {
-  for (const child of children) child.stopGroup();
+let stopping = false;
+async function stopAll(code = 0) {
+  if (stopping) return;
+  stopping = true;
+  log("stopping");
+  await stopChildren(children, 4_000);
   pg?.stop();
   process.exit(code);
 }
@@ -50,13 +55,7 @@ Object.assign(env, await startFakes(children, "dev", { publicUrl: env.TIDEMARK_P
 run("npx", ["tsx", "scripts/migrate.ts", "--seed"], { env });
 
 function launch(name, cmd, args) {
-  const child = spawnService(cmd, args, { env, stdio: "inherit" });
-  child.on("exit", (code, signal) => {
-    if (signal !== "SIGTERM") {
-      log(`${name} stopped (${code ?? signal})`);
-      stopAll(code ?? 1);
-    }
-  });
+  const child = supervise(name, cmd, args, { env, stdio: "inherit" });
   children.push(child);
   return child;
 }
@@ -64,8 +63,10 @@ function launch(name, cmd, args) {
 if (dev) {
   launch("web", "npx", ["react-router", "dev", "--host", env.HOST, "--port", String(port)]);
 } else {
+  run("node", ["scripts/build-dsp.mjs"], { env });
   run("npx", ["react-router", "build"], { env });
-  launch("web", "npx", ["react-router-serve", "./build/server/index.js"]);
+  // Our own server (server/main.mjs): client addresses, body limits, origin checks, headers.
+  launch("web", process.execPath, ["server/main.mjs", "./build/server/index.js"]);
 }
 if (existsSync(path.join(root, "app/jobs/worker.server.ts"))) launch("worker", "npx", ["tsx", "app/jobs/worker.server.ts"]);
 log(`Tidemark on http://${env.HOST}:${port}  (Ctrl-C stops it)`);

@@ -68,6 +68,8 @@ const step = (name, cmd, args, extraEnv = {}) => {
   }
 };
 
+// The compiled command and render task (dist/): the CLI tests run the command, the worker loads the task.
+step("compile", "node", ["scripts/build-dsp.mjs"]);
 if (unitOnly === null || unitOnly.length > 0) step("vitest", "npx", ["vitest", "run", ...(unitOnly ?? [])]);
 
 if (e2e && status === 0) {
@@ -76,7 +78,7 @@ if (e2e && status === 0) {
     if (!(await portFree(webPort))) fail(`port ${webPort} is in use; set TEST_PORT`);
     const webEnv = { ...env, NODE_ENV: "production", PORT: String(webPort), HOST: "127.0.0.1", TIDEMARK_INSECURE_COOKIES: "1" };
     const buildDir = process.env.TIDEMARK_BUILD_DIR ?? "build";
-    const web = spawnService("npx", ["react-router-serve", `./${buildDir}/server/index.js`], { env: webEnv, stdio: "inherit" });
+    const web = spawnService(process.execPath, ["server/main.mjs", `./${buildDir}/server/index.js`], { env: webEnv, stdio: "inherit" });
     children.push(web);
     if (await import("node:fs").then((fs) => fs.existsSync(`${root}/app/jobs/worker.server.ts`))) {
       children.push(spawnService("npx", ["tsx", "app/jobs/worker.server.ts"], { env: webEnv, stdio: "inherit" }));

@@ -4,13 +4,15 @@ import { MessageChannel } from "node:worker_threads";
 import type PgBoss from "pg-boss";
 import type { LocalFile } from "../lib/storage/storage.server.ts";
 import { markAnalysisFailed, markAnalysisRetrying, saveAnalysis, startAnalysis } from "../models/mix.server.ts";
-import { analyzeJobData } from "./queue.server.ts";
+import { analyzeJobData, analyzeReferenceJobData } from "./queue.server.ts";
+import { runAnalyzeReferenceJob } from "./analyze-reference-job.server.ts";
 import { analyzeResultSchema, type AnalyzeTask } from "./task-messages.ts";
 import { readableError, type WorkerContext } from "./worker-context.server.ts";
 
 export async function runAnalyzeJob(job: PgBoss.JobWithMetadata<unknown>, ctx: WorkerContext): Promise<void> {
   const queueName = ctx.settings.analyzeQueue;
   const data = analyzeJobData.safeParse(job.data);
+  if (!data.success && analyzeReferenceJobData.safeParse(job.data).success) return runAnalyzeReferenceJob(job, ctx);
   if (!data.success) {
     await ctx.boss.fail(queueName, job.id, { message: "the job does not name a mix" });
     return;

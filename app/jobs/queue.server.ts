@@ -51,6 +51,8 @@ export type AnalyzeJobData = { mixId: string };
 
 export const renderJobData = z.object({ renderId: z.uuid() });
 export const analyzeJobData = z.object({ mixId: z.uuid() });
+/** A reference track's analysis goes through the same queue as a mix's. */
+export const analyzeReferenceJobData = z.object({ referenceId: z.uuid() });
 export const deliverJobData = z.object({ deliveryId: z.uuid() });
 
 const MAX_EXPIRE_SECONDS = 23 * 3600;
@@ -131,6 +133,18 @@ export async function enqueueAnalyzeMix(mixId: string, audioSeconds: number): Pr
     retryLimit: settings.retryLimit,
     retryDelay: settings.retryDelaySeconds,
     // Analysis reads the file once (true peak oversampled): about one render pass.
+    expireInSeconds: settings.analyzeExpireSeconds ?? expireSecondsFor(audioSeconds, 1),
+  });
+  if (!id) throw new Error("the queue refused the analysis job");
+  return id;
+}
+
+export async function enqueueAnalyzeReference(referenceId: string, audioSeconds: number): Promise<string> {
+  const settings = queueSettings();
+  const boss = await queue();
+  const id = await boss.send(settings.analyzeQueue, { referenceId }, {
+    retryLimit: settings.retryLimit,
+    retryDelay: settings.retryDelaySeconds,
     expireInSeconds: settings.analyzeExpireSeconds ?? expireSecondsFor(audioSeconds, 1),
   });
   if (!id) throw new Error("the queue refused the analysis job");

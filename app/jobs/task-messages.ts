@@ -22,6 +22,8 @@ export const renderTaskSchema = z.object({
   preview: z.boolean(),
   region: z.object({ startS: z.number().min(0), endS: z.number().positive() }).nullable(),
   targetLufs: z.number().min(-70).max(0).nullable(),
+  /** The gain an earlier render found for this mix, chain revision and target (previews are the print); null: search. */
+  targetGainDb: z.number().min(-36).max(36).nullable(),
   port,
 });
 
@@ -42,6 +44,13 @@ export const renderResultSchema = z.object({
   input: analysis,
   output: analysis,
   passes: z.number().int().min(1),
+  /** Waveform peaks of the output (dsp/render/waveform-peaks.ts); absent from an older worker. */
+  peaks: z
+    .object({ columns: z.number().int().positive(), frames: z.number().int().nonnegative(), sampleRate: z.number().int().positive(), min: z.array(z.number().int()), max: z.array(z.number().int()) })
+    .optional(),
+
+  /** The loudness-target gain used (found or given); null without a target. */
+  targetGainDb: z.number().nullable(),
   /** The region rendered: the one asked for, or the loudest stretch a preview found. */
   region: z.object({ startS: z.number(), endS: z.number() }).nullable(),
   format: z.object({

@@ -7,6 +7,7 @@
 // WORKER_SHUTDOWN_GRACE_SECONDS, then hand the rest back to the queue.
 import os from "node:os";
 import path from "node:path";
+import { existsSync } from "node:fs";
 import { mkdir, readdir, rm } from "node:fs/promises";
 import { Piscina } from "piscina";
 import type PgBoss from "pg-boss";
@@ -64,8 +65,11 @@ async function prepareTmpDir(base: string): Promise<string> {
 const tmpDir = await prepareTmpDir(env.WORKER_TMP_DIR);
 
 const boss = await startBoss(settings, { supervise: true, maintenanceIntervalSeconds: env.QUEUE_MAINTENANCE_SECONDS, maxConnections: 2 + threads });
+// The threads run the compiled task (dist/jobs, made by scripts/build-dsp.mjs) when it is there, so a
+// thread starts without transpiling; a checkout not built yet falls back to the TypeScript through tsx.
+const compiledTask = new URL("../../dist/jobs/render-task.js", import.meta.url);
 const pool = new Piscina({
-  filename: new URL("./render-task.ts", import.meta.url).href,
+  filename: existsSync(compiledTask) ? compiledTask.href : new URL("./render-task.ts", import.meta.url).href,
   minThreads: threads,
   maxThreads: threads,
   concurrentTasksPerWorker: 1,

@@ -10,7 +10,7 @@ import type { Role } from "./roles.ts";
 import { env } from "./env.server.ts";
 import { RateLimiter } from "./rate-limit.ts";
 
-/** Scripts with a token share one bucket per member; pages (the session cookie) are not limited here. */
+/** One bucket per member, whether the call comes with a token or the session cookie. */
 export const apiRateLimiter = new RateLimiter(env.apiRatePerMinute);
 
 export type ApiFieldErrors = Record<string, string>;
@@ -33,18 +33,23 @@ export async function requireApiUser(request: Request, roles?: readonly Role[]):
     const match = /^Bearer\s+(\S+)$/i.exec(header.trim());
     const owner = match ? await findTokenOwner(match[1]) : undefined;
     if (!owner) throw apiError(401, "The API token is not valid (it may have been revoked)");
-    const decision = apiRateLimiter.take(`${owner.userId}:${owner.studioId}`);
-    if (!decision.ok) {
-      throw json({ error: `Too many requests with this token; retry in ${decision.retryAfterS} s` }, 429, { "Retry-After": String(decision.retryAfterS) });
-    }
+    takeApiAllowance(owner.userId, owner.studioId);
     user = await getCurrentUser(owner.userId, owner.studioId);
     if (!user) throw apiError(401, "The API token's member no longer belongs to the studio");
   } else {
     user = await getUser(request);
     if (!user) throw apiError(401, "Sign in, or send an API token as Authorization: Bearer <token>");
+    takeApiAllowance(user.id, user.studioId);
   }
   if (roles && !roles.includes(user.role)) throw apiNotFound();
   return user;
+}
+
+function takeApiAllowance(userId: string, studioId: string): void {
+  const decision = apiRateLimiter.take(`${userId}:${studioId}`);
+  if (!decision.ok) {
+    throw json({ error: `Too many API requests from this member; retry in ${decision.retryAfterS} s` }, 429, { "Retry-After": String(decision.retryAfterS) });
+  }
 }
 
 /** zod issues as `{ "stages[2].ratio": "must be at least 1" }` (first message per path). */

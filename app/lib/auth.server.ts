@@ -6,16 +6,17 @@ import { FormStrategy } from "remix-auth-form";
 import { signInSchema } from "../schemas/sign-in.ts";
 import { getCurrentUser, findUserForSignIn, membershipStudioForRelease, normalizeEmail, type CurrentUser } from "../models/user.server.ts";
 import { isUuid } from "./ids.ts";
-import { clearFailedSignIns, isSignInThrottled, recordFailedSignIn } from "../models/sign-in-attempt.server.ts";
+import { admitSignInAttempt, clearSignInAttempts } from "../models/sign-in-attempt.server.ts";
 import { getReleaseForUser, type ReleaseDetail } from "../models/release.server.ts";
-import { burnPasswordCheck, verifyPassword } from "./password.server.ts";
-import { getSession, sessionStorage } from "./session.server.ts";
-import { env } from "./env.server.ts";
+import { burnPasswordCheck, PasswordBusyError, verifyPassword } from "./password.server.ts";
+import { endSession, readSession, sessionCookie, setSessionStudio, startSession, type SessionRecord } from "./session.server.ts";
+import { clientAddress } from "./client-address.server.ts";
+import { RateLimiter } from "./rate-limit.ts";
 import { notFound } from "./http.server.ts";
 import type { Role } from "./roles.ts";
 import { safeRedirectPath } from "./redirect.ts";
 
-export { safeRedirectPath };
+export { safeRedirectPath, clientAddress };
 
 export type SignedIn = { userId: string; studioId: string };
 
@@ -34,12 +35,9 @@ export class SignInError extends Error {
 export const WRONG_CREDENTIALS = "That e-mail and password do not match an account.";
 export const TOO_MANY_ATTEMPTS = "Too many failed sign-ins. Wait a minute, then try again.";
 
-/** The client's address, only when a trusted proxy tells us. */
-export function clientAddress(request: Request): string | null {
-  if (!env.trustProxy) return null;
-  const forwarded = request.headers.get("X-Forwarded-For");
-  return forwarded?.split(",")[0]?.trim() || null;
-}
+// In front of the database and the hashing pool: a flood from one address is
+// refused in memory before it costs anything (the rows decide the rest).
+const signInAddressLimiter = new RateLimiter(60, 30);
 
 export const authenticator = new Authenticator<SignedIn>();
 
@@ -52,43 +50,53 @@ authenticator.use(
     }
     const email = normalizeEmail(parsed.data.email);
     const address = clientAddress(request);
-    if (await isSignInThrottled(email, address)) throw new SignInError(TOO_MANY_ATTEMPTS, 429);
+    if (!signInAddressLimiter.take(address ?? "unknown").ok) throw new SignInError(TOO_MANY_ATTEMPTS, 429);
+    if (!(await admitSignInAttempt(email, address))) throw new SignInError(TOO_MANY_ATTEMPTS, 429);
     const user = await findUserForSignIn(email);
-    // Unknown e-mail and wrong password cost the same and read the same.
-    const ok = user ? await verifyPassword(parsed.data.password, user.passwordHash) : (await burnPasswordCheck(parsed.data.password), false);
-    if (!ok || !user || !user.studioId) {
-      await recordFailedSignIn(email, address);
-      throw new SignInError(WRONG_CREDENTIALS, 401);
+    let ok: boolean;
+    try {
+      // Unknown e-mail and wrong password cost the same and read the same.
+      ok = user ? await verifyPassword(parsed.data.password, user.passwordHash) : (await burnPasswordCheck(parsed.data.password), false);
+    } catch (error) {
+      if (error instanceof PasswordBusyError) throw new SignInError(error.message, 429);
+      throw error;
     }
-    await clearFailedSignIns(email);
+    if (!ok || !user || !user.studioId) throw new SignInError(WRONG_CREDENTIALS, 401);
+    await clearSignInAttempts(email, address);
     return { userId: user.id, studioId: user.studioId };
   }),
   "password",
 );
 
+/** Starts a new session (never reuses the one the request came with) and redirects. */
 export async function createUserSession(request: Request, signedIn: SignedIn, redirectTo: string): Promise<Response> {
-  return updateSessionAndRedirect(request, signedIn, redirectTo);
-}
-
-async function updateSessionAndRedirect(request: Request, values: Partial<SignedIn>, redirectTo: string): Promise<Response> {
-  const session = await getSession(request);
-  if (values.userId) session.set("userId", values.userId);
-  if (values.studioId) session.set("studioId", values.studioId);
-  return redirect(safeRedirectPath(redirectTo), { headers: { "Set-Cookie": await sessionStorage.commitSession(session) } });
+  const headers = new Headers();
+  // A session cookie the browser still had is ended first: one browser, one session.
+  if (request.headers.get("Cookie")) await endSession(request.headers.get("Cookie"));
+  headers.append("Set-Cookie", await startSession(signedIn.userId, signedIn.studioId));
+  return redirect(safeRedirectPath(redirectTo), { headers });
 }
 
 export async function destroyUserSession(request: Request): Promise<Response> {
-  const session = await getSession(request);
-  return redirect("/sign-in", { headers: { "Set-Cookie": await sessionStorage.destroySession(session) } });
+  return redirect("/sign-in", { headers: { "Set-Cookie": await endSession(request.headers.get("Cookie")) } });
+}
+
+/** The request's session, if it is live (memoised per request: layout and page loaders both ask). */
+const sessionsByRequest = new WeakMap<Request, Promise<SessionRecord | undefined>>();
+export function currentSession(request: Request): Promise<SessionRecord | undefined> {
+  let found = sessionsByRequest.get(request);
+  if (!found) {
+    found = readSession(request.headers.get("Cookie"));
+    sessionsByRequest.set(request, found);
+  }
+  return found;
 }
 
 /** The signed-in user, or undefined. */
 export async function getUser(request: Request): Promise<CurrentUser | undefined> {
-  const session = await getSession(request);
-  const userId = session.get("userId");
-  const studioId = session.get("studioId");
-  if (!userId || !studioId) return undefined;
-  return getCurrentUser(userId, studioId);
+  const session = await currentSession(request);
+  if (!session) return undefined;
+  return getCurrentUser(session.userId, session.studioId);
 }
 
 /** The signed-in user; otherwise a redirect to sign-in that comes back here. */
@@ -98,9 +106,9 @@ export async function requireUser(request: Request): Promise<CurrentUser> {
   const url = new URL(request.url);
   const back = `${url.pathname}${url.search}`;
   const search = back === "/" ? "" : `?${new URLSearchParams({ redirectTo: back })}`;
-  const session = await getSession(request);
-  // A cookie for a user who no longer exists is cleared on the way.
-  const headers: HeadersInit = session.has("userId") ? { "Set-Cookie": await sessionStorage.destroySession(session) } : {};
+  // A cookie of a session that has ended is cleared on the way.
+  const cookie = request.headers.get("Cookie");
+  const headers: HeadersInit = cookie?.includes(`${sessionCookie.name}=`) ? { "Set-Cookie": await endSession(cookie) } : {};
   throw redirect(`/sign-in${search}`, { headers });
 }
 
@@ -142,6 +150,8 @@ async function followIntoOtherStudio(request: Request, user: CurrentUser, releas
 }
 
 /** Sets the session's studio (the caller has checked the membership) and redirects. */
-export function switchStudioRedirect(request: Request, studioId: string, redirectTo: string): Promise<Response> {
-  return updateSessionAndRedirect(request, { studioId }, redirectTo);
+export async function switchStudioRedirect(request: Request, studioId: string, redirectTo: string): Promise<Response> {
+  const session = await currentSession(request);
+  if (session) await setSessionStudio(session.idHash, studioId);
+  return redirect(safeRedirectPath(redirectTo));
 }

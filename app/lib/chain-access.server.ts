@@ -34,6 +34,16 @@ export async function listTemplatesWithRevision(studioId: string): Promise<{ id:
     .select("c.id", "c.name", "c.updated_at as updatedAt", db.raw("coalesce(max(cr.revision), 0)::int as revision"));
 }
 
+/** A track's chains, oldest first, each with the number of its latest revision. */
+export async function listTrackChainsWithRevision(trackId: string): Promise<{ id: string; name: string; revision: number; updatedAt: Date }[]> {
+  return db("chains as c")
+    .leftJoin("chain_revisions as cr", "cr.chain_id", "c.id")
+    .where({ "c.track_id": trackId })
+    .groupBy("c.id")
+    .orderBy("c.created_at")
+    .select("c.id", "c.name", "c.updated_at as updatedAt", db.raw("coalesce(max(cr.revision), 0)::int as revision"));
+}
+
 /**
  * A new chain (for a track, or a template when trackId is null) whose first
  * revision copies the latest revision of a template of the same studio, or

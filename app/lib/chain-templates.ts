@@ -41,4 +41,20 @@ export const CHAIN_TEMPLATES: readonly ChainTemplate[] = [
       output: { bitDepth: 24, dither: "tpdf", targetLufs: -14 },
     },
   },
+  {
+    // Weight in the low end from the tape stage, lightly driven and half blended; the resonance
+    // stage only shaves narrow build-ups between 1.5 and 7 kHz by at most 3 dB; a gentle bus
+    // compressor and the limiter at -1 dBTP.
+    name: "Warm and even",
+    params: {
+      stages: [
+        { type: "eq", bands: [{ shape: "highPass", freqHz: 25, gainDb: 0, q: 0.707, channel: "stereo" }] },
+        { type: "tape", driveDb: 3, bumpHz: 65, bumpDb: 1.5, rolloffHz: 19000, blend: 0.6, oversample: 4 },
+        { type: "resonance", lowHz: 1500, highHz: 7000, thresholdDb: 6, maxCutDb: 3, attackMs: 20, releaseMs: 180, blend: 1, listen: "output" },
+        { type: "compress", thresholdDb: -20, ratio: 1.5, kneeDb: 8, attackMs: 30, releaseMs: "auto", makeupDb: 0.5, rmsWindowMs: 20, sidechainHighPassHz: 80 },
+        { type: "limit", inputGainDb: 2, ceilingDbtp: -1, lookaheadMs: 3, releaseMs: 120, truePeak: true },
+      ],
+      output: { bitDepth: 24, dither: "tpdf", targetLufs: -14 },
+    },
+  },
 ];

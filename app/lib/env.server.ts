@@ -9,8 +9,9 @@ const schema = z.object({
   SESSION_SECRET: z.string().min(16, "SESSION_SECRET must be at least 16 characters").optional(),
   // Lets the production build run over plain http on loopback for the browser tests.
   TIDEMARK_INSECURE_COOKIES: z.enum(["0", "1"]).optional(),
-  // Trust the first X-Forwarded-For hop as the client's address (behind a proxy only).
-  TIDEMARK_TRUST_PROXY: z.enum(["0", "1"]).optional(),
+  // A session ends after this many hours without a request, and after this many days whatever happens.
+  TIDEMARK_SESSION_IDLE_HOURS: z.coerce.number().int().min(1).max(24 * 90).default(72),
+  TIDEMARK_SESSION_MAX_DAYS: z.coerce.number().int().min(1).max(365).default(30),
   // Requests a minute per API token's member (a burst of as many); 0 turns the limit off.
   TIDEMARK_API_RATE_PER_MINUTE: z.coerce.number().int().min(0).max(1_000_000).default(600),
 });
@@ -19,7 +20,8 @@ export type Env = {
   nodeEnv: "development" | "test" | "production";
   sessionSecret: string;
   secureCookies: boolean;
-  trustProxy: boolean;
+  sessionIdleHours: number;
+  sessionMaxDays: number;
   apiRatePerMinute: number;
 };
 
@@ -42,7 +44,8 @@ export function parseEnv(source: Record<string, string | undefined>, warn: (mess
     nodeEnv: values.NODE_ENV,
     sessionSecret,
     secureCookies: values.NODE_ENV === "production" && values.TIDEMARK_INSECURE_COOKIES !== "1",
-    trustProxy: values.TIDEMARK_TRUST_PROXY === "1",
+    sessionIdleHours: values.TIDEMARK_SESSION_IDLE_HOURS,
+    sessionMaxDays: values.TIDEMARK_SESSION_MAX_DAYS,
     apiRatePerMinute: values.TIDEMARK_API_RATE_PER_MINUTE,
   };
 }

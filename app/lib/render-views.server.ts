@@ -18,7 +18,17 @@ export type RenderListItem = {
   targetLufs: number | null;
   queuedAt: string;
   error: string | null;
+  /** When it finished (ISO), and what the worker measured on its output. */
+  finishedAt: string | null;
+  outputLufs: number | null;
+  outputTruePeakDbtp: number | null;
+  /** Sent to the client for review; approved by the client; the source of a delivered file. */
+  sent: boolean;
+  approved: boolean;
+  inDelivery: boolean;
 };
+
+const finite = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : null);
 
 /** The track's renders this viewer may see (render-visibility.server.ts), newest first. */
 export async function listTrackRenders(trackId: string, viewer: RenderViewer): Promise<RenderListItem[]> {
@@ -30,6 +40,10 @@ export async function listTrackRenders(trackId: string, viewer: RenderViewer): P
     .select(
       "rd.id", "rd.kind", "rd.state", "rd.progress", "rd.region_start_s", "rd.region_end_s", "rd.target_lufs", "rd.queued_at", "rd.error",
       "m.version as mix_version", "c.name as chain_name", "cr.revision as chain_revision",
+      "rd.finished_at", "rd.output_analysis",
+      db.raw("EXISTS (SELECT 1 FROM review_requests rq WHERE rq.render_id = rd.id) AS sent"),
+      db.raw("EXISTS (SELECT 1 FROM review_events re WHERE re.render_id = rd.id AND re.kind = 'approve') AS approved"),
+      db.raw("EXISTS (SELECT 1 FROM deliveries d WHERE d.source_render_id = rd.id) AS in_delivery"),
     );
   const rows: Record<string, any>[] = await whereRenderVisible(query, viewer);
   return rows.map((row) => ({
@@ -44,6 +58,12 @@ export async function listTrackRenders(trackId: string, viewer: RenderViewer): P
     targetLufs: row.target_lufs,
     queuedAt: new Date(row.queued_at).toISOString(),
     error: row.error,
+    finishedAt: row.finished_at ? new Date(row.finished_at).toISOString() : null,
+    outputLufs: finite(row.output_analysis?.integratedLufs),
+    outputTruePeakDbtp: finite(row.output_analysis?.truePeakDbtp),
+    sent: Boolean(row.sent),
+    approved: Boolean(row.approved),
+    inDelivery: Boolean(row.in_delivery),
   }));
 }
 

@@ -8,8 +8,10 @@
 //   finished ones, so a client never sees a queued or failed render.
 // - The files that are the product — a print's WAV as a download and the
 //   release's deliveries (the package) — open to a client only once the
-//   release's invoice is paid. A preview's file stays open, and a sent print
-//   may still be listened to in the players: that is what the review is for.
+//   release's invoice is paid. A preview's file stays open. In the players a
+//   client hears a sent print of an unpaid release only as its first
+//   UNPAID_STRETCH_S seconds (app/lib/render-audio.server.ts): enough to
+//   review, never the whole print.
 //
 // Callers have already checked that the viewer may see the release at all
 // (requireReleaseAccess / releaseFor); a render this rule hides answers 404,
@@ -62,6 +64,14 @@ export async function finalsOpenFor(viewer: Pick<RenderViewer, "role">, releaseI
  */
 export async function mayDownloadRender(viewer: Pick<RenderViewer, "role">, render: { kind: "preview" | "print" }, releaseId: string): Promise<boolean> {
   return render.kind === "preview" || finalsOpenFor(viewer, releaseId);
+}
+
+/** How much of a print a client hears in the players before the invoice is paid (a preview's length). */
+export const UNPAID_STRETCH_S = 30;
+
+/** Whether a visible render is heard whole, or only as its first UNPAID_STRETCH_S seconds. */
+export async function listeningFormFor(viewer: Pick<RenderViewer, "role">, render: { kind: "preview" | "print" }, releaseId: string): Promise<"whole" | "stretch"> {
+  return (await mayDownloadRender(viewer, render, releaseId)) ? "whole" : "stretch";
 }
 
 /** The 403 for a locked final file (the API answers apiError(403, FINALS_LOCKED_MESSAGE)). */

@@ -6,6 +6,7 @@
 // for the person uploading with their HTTP status (413 too large, 422 not usable).
 import { Readable } from "node:stream";
 import { addUploadedMix, MixUploadError, uploadMaxBytes, type Mix } from "../models/mix.server.ts";
+import { addUploadedReference, type ReferenceTrack } from "../models/reference.server.ts";
 
 export { uploadMaxBytes };
 
@@ -57,9 +58,28 @@ export async function receiveMixUpload(input: UploadInput): Promise<Mix> {
   try {
     return await addUploadedMix({ trackId: input.trackId, originalName: cleanFileName(input.fileName), body, uploadedBy: input.userId, maxBytes });
   } catch (error) {
-    if (!(error instanceof MixUploadError)) throw error;
-    if (error.code === "too-large") throw new UploadError(tooLargeMessage(maxBytes), 413);
-    if (error.code === "empty") throw new UploadError("The file is empty.", 422);
-    throw new UploadError(refusedMessage(error.message), 422);
+    throw toUploadError(error, maxBytes);
+  }
+}
+
+/** A refusal of the file's content as the message for the person uploading; anything else unchanged. */
+function toUploadError(error: unknown, maxBytes: number): unknown {
+  if (!(error instanceof MixUploadError)) return error;
+  if (error.code === "too-large") return new UploadError(tooLargeMessage(maxBytes), 413);
+  if (error.code === "empty") return new UploadError("The file is empty.", 422);
+  return new UploadError(refusedMessage(error.message), 422);
+}
+
+/** Streams one file into a new reference track of the release, refused exactly as a mix would be. */
+export async function receiveReferenceUpload(input: Omit<UploadInput, "trackId"> & { releaseId: string }): Promise<ReferenceTrack> {
+  const maxBytes = uploadMaxBytes();
+  if (input.declaredBytes != null && input.declaredBytes > maxBytes) throw new UploadError(tooLargeMessage(maxBytes), 413);
+  if (!input.body) throw new UploadError("No file was sent.", 422);
+  const body = input.body instanceof ReadableStream ? Readable.fromWeb(input.body as never) : input.body;
+  try {
+    const originalName = cleanFileName(input.fileName);
+    return await addUploadedReference({ releaseId: input.releaseId, originalName, body, uploadedBy: input.userId, maxBytes });
+  } catch (error) {
+    throw toUploadError(error, maxBytes);
   }
 }

@@ -13,6 +13,8 @@ import { formatSourceKey, type SourceType } from "../lib/compare/sources.ts";
 import { formatClock } from "../components/player/format.ts";
 import { getMix, listMixVersions, type Mix } from "./mix.server.ts";
 import { listReviewableRenders, type ReviewableRender, type Viewer } from "./review.server.ts";
+import { getReference, listReferences, type ReferenceTrack } from "./reference.server.ts";
+import { loudestWindow } from "../../dsp/render/loudest-window.ts";
 
 export type CompareSource = {
   key: string;
@@ -29,6 +31,8 @@ export type CompareSource = {
   render: ReviewableRender | null;
   /** A mix source's row; its analysis without the short-term curve (sourceTraces reads that). */
   mix: Mix | null;
+  /** A reference track's row (staff only), likewise without its curve. */
+  reference?: ReferenceTrack | null;
 };
 
 const finiteOrNull = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : null);
@@ -45,10 +49,13 @@ export const renderLabel = (r: Pick<ReviewableRender, "kind" | "region" | "mixVe
 
 export const mixLabel = (m: Pick<Mix, "version" | "originalName">) => `Mix v${m.version} · ${m.originalName}`;
 
-/** Renders newest first, then (staff) mixes newest first. */
+export const referenceLabel = (r: Pick<ReferenceTrack, "originalName">) => `Reference · ${r.originalName}`;
+
+/** Renders newest first, then (staff) mixes newest first, then (staff) the release's analysed references. */
 export async function listCompareSources(viewer: Viewer, track: { id: string; releaseId: string }): Promise<CompareSource[]> {
   const renders = await listReviewableRenders(viewer, track.id);
   const mixes = isStaff(viewer.role) ? await listMixVersions(track.id) : [];
+  const references = isStaff(viewer.role) ? (await listReferences(track.releaseId)).filter((r) => r.analysisState === "done") : [];
   return [
     ...renders.map(
       (r): CompareSource => ({
@@ -81,6 +88,22 @@ export async function listCompareSources(viewer: Viewer, track: { id: string; re
         mix: m,
       }),
     ),
+    ...references.map(
+      (r): CompareSource => ({
+        key: formatSourceKey({ type: "reference", id: r.id }),
+        type: "reference",
+        id: r.id,
+        mixId: r.id,
+        label: referenceLabel(r),
+        offsetS: 0, // set by alignReference for the pair compared
+        integratedLufs: finiteOrNull((r.analysis as { integratedLufs?: unknown } | null)?.integratedLufs),
+        sentForReview: false,
+        audioUrl: `/releases/${track.releaseId}/references/${r.id}/audio`,
+        render: null,
+        mix: null,
+        reference: r,
+      }),
+    ),
   ];
 }
 
@@ -103,7 +126,52 @@ export async function sourceAnalysis(source: CompareSource): Promise<SourceAnaly
     const row = await db("renders").where({ id: source.id }).first<{ analysis: unknown } | undefined>(db.raw("output_analysis - 'shortTermLufs' AS analysis"));
     return figures(row?.analysis);
   }
+  if (source.type === "reference") return figures(source.reference?.analysis);
   return source.mix?.analysisState === "done" ? figures(source.mix.analysis) : null;
+}
+
+export type SpectrumBands = Array<{ centreHz: number; levelDb: number | null }>;
+
+/** Stored third-octave bands of an analysis, or null (analysed before spectra were measured). */
+export function spectrumOf(analysis: unknown): SpectrumBands | null {
+  const bands = (analysis as { thirdOctave?: unknown } | null)?.thirdOctave;
+  if (!Array.isArray(bands) || bands.length === 0) return null;
+  return bands.map((b: { centreHz?: unknown; levelDb?: unknown }) => ({ centreHz: Number(b.centreHz), levelDb: finiteOrNull(b.levelDb) }));
+}
+
+/** A source's long-term spectrum: a render's output, a mix's or a reference's own analysis. */
+export async function sourceSpectrum(source: CompareSource): Promise<SpectrumBands | null> {
+  if (source.type === "render") {
+    const row = await db("renders").where({ id: source.id }).first<{ bands: unknown } | undefined>(db.raw("output_analysis -> 'thirdOctave' AS bands"));
+    return spectrumOf({ thirdOctave: row?.bands });
+  }
+  if (source.type === "reference") return spectrumOf(source.reference?.analysis);
+  return source.mix?.analysisState === "done" ? spectrumOf(source.mix.analysis) : null;
+}
+
+export const ALIGN_WINDOW_S = 30;
+
+/**
+ * Where a reference's 0 s sits on the master's time axis so the two line up:
+ * at the points picked (`at`: master's axis, reference's own time), else at
+ * the start of the loudest 30 s of each (by short-term loudness, as previews
+ * choose their region). Null when a curve is missing.
+ */
+export async function referenceOffsetS(
+  master: CompareSource,
+  reference: CompareSource,
+  at?: { masterS: number; referenceS: number } | null,
+): Promise<{ offsetS: number; masterS: number; referenceS: number } | null> {
+  if (at) return { offsetS: at.masterS - at.referenceS, ...at };
+  const [tm, tr] = await Promise.all([sourceTraces(master), sourceTraces(reference)]);
+  if (!tm?.shortTermLufs?.length || !tr?.shortTermLufs?.length) return null;
+  const loudest = (t: RenderTraces) => {
+    const curve = (t.shortTermLufs ?? []).map((v) => (typeof v === "number" ? v : -Infinity));
+    return loudestWindow(curve, t.gridMs, (curve.length * t.gridMs) / 1000, ALIGN_WINDOW_S).startS;
+  };
+  const masterS = master.offsetS + loudest(tm);
+  const referenceS = loudest(tr);
+  return { offsetS: masterS - referenceS, masterS, referenceS };
 }
 
 async function readStoredTraces(key: string | null): Promise<RenderTraces | null> {
@@ -125,8 +193,8 @@ async function readStoredTraces(key: string | null): Promise<RenderTraces | null
  */
 export async function sourceTraces(source: CompareSource): Promise<RenderTraces | null> {
   if (source.type === "render") return readStoredTraces(source.render?.tracesKey ?? null);
-  const mix = await getMix(source.id);
-  const analysis = mix?.analysisState === "done" ? (mix.analysis as { gridMs?: unknown; shortTermLufs?: unknown } | null) : null;
+  const row = source.type === "reference" ? (source.reference ? await getReference(source.reference.releaseId, source.id) : undefined) : await getMix(source.id);
+  const analysis = row?.analysisState === "done" ? (row.analysis as { gridMs?: unknown; shortTermLufs?: unknown } | null) : null;
   if (!analysis || typeof analysis.gridMs !== "number" || !Array.isArray(analysis.shortTermLufs)) return null;
   return { gridMs: analysis.gridMs, stages: [], shortTermLufs: analysis.shortTermLufs as (number | null)[] };
 }

@@ -15,6 +15,7 @@ import { deliveryWarnings, type DeliveredFile } from "../lib/delivery/warnings.t
 import { storage as sharedStorage, type StorageDriver } from "../lib/storage/storage.server.ts";
 import { releaseDeliveryPlan, type TrackDeliveryPlan } from "./delivery-plan.server.ts";
 import { getStudioSettings } from "./studio-settings.server.ts";
+import { createRender } from "./render.server.ts";
 
 type Conn = Knex | Knex.Transaction;
 
@@ -155,7 +156,7 @@ export async function latestDeliveries(releaseId: string, conn: Conn = db): Prom
     formatId: r.format_id,
     storageKey: r.storage_key,
     sizeBytes: Number(r.size_bytes),
-    analysis: { integratedLufs: measure(r.analysis?.integratedLufs), loudnessRangeLu: measure(r.analysis?.loudnessRangeLu), truePeakDbtp: measure(r.analysis?.truePeakDbtp) },
+    analysis: { integratedLufs: measure(r.analysis?.integratedLufs), loudnessRangeLu: measure(r.analysis?.loudnessRangeLu), truePeakDbtp: measure(r.analysis?.truePeakDbtp), reconstructedPeakDb: measure(r.analysis?.reconstructedPeakDb) },
     warnings: r.warnings,
   }));
 }
@@ -199,31 +200,55 @@ export async function releasePackage(releaseId: string, options: { storage?: Sto
 
 /**
  * Queues a delivery of every approved track in every format of the release,
- * each from the print the client approved (releaseDeliveryPlan). A file
- * already made, or on its way, from the same print in the same format is not
- * made again (counted in alreadyMade). Tracks left out are returned with the
- * reason. Returns the ids of the new deliveries (to hand to makeDelivery, in
- * a worker).
+ * each from the print of the recipe the client approved (releaseDeliveryPlan).
+ * A track approved with no print yet gets one rendered now: its deliveries
+ * are made but wait for it (`waitingOnPrint`), and the render job queues them
+ * when the print is done. A file already made, or on its way, from the same
+ * print in the same format is not made again (counted in alreadyMade). Tracks
+ * left out are returned with the reason. Returns the ids of the deliveries to
+ * queue now (to hand to makeDelivery, in a worker).
  */
-export async function queueReleaseDeliveries(releaseId: string, conn: Knex = db): Promise<{ deliveryIds: string[]; alreadyMade: number; leftOut: TrackDeliveryPlan[] }> {
+export async function queueReleaseDeliveries(
+  releaseId: string,
+  conn: Knex = db,
+  options: { createdBy?: string | null } = {},
+): Promise<{ deliveryIds: string[]; alreadyMade: number; leftOut: TrackDeliveryPlan[]; waitingOnPrint: string[]; printsQueued: number }> {
   const formats = await releaseFormats(releaseId, conn);
   const plan = await releaseDeliveryPlan(releaseId, conn);
+  // Approved with no print: render it (outside the transaction: createRender queues its job).
+  let printsQueued = 0;
+  const sources = new Map<string, string>();
+  for (const p of plan) {
+    if (p.sourceRenderId) sources.set(p.trackId, p.sourceRenderId);
+    else if (p.printInProgressId) sources.set(p.trackId, p.printInProgressId);
+    else if (p.printRecipe) {
+      const print = await createRender({ ...p.printRecipe, kind: "print", createdBy: options.createdBy ?? null });
+      sources.set(p.trackId, print.id);
+      printsQueued++;
+    }
+  }
   const deliveryIds: string[] = [];
+  const waitingOnPrint: string[] = [];
   let alreadyMade = 0;
   await conn.transaction(async (trx) => {
     // One "Make deliveries" at a time per release, so two clicks cannot both queue the same files.
     await trx("releases").where({ id: releaseId }).forUpdate().first("id");
     for (const p of plan) {
-      if (!p.sourceRenderId) continue;
+      const source = sources.get(p.trackId);
+      if (!source) continue;
+      const printDone = (await trx("renders").where({ id: source }).first<{ state: string }>("state"))?.state === "done";
       for (const f of formats) {
         const existing = await trx("deliveries")
-          .where({ track_id: p.trackId, format_id: f.id, source_render_id: p.sourceRenderId })
+          .where({ track_id: p.trackId, format_id: f.id, source_render_id: source })
           .whereIn("state", ["queued", "running", "done"])
           .first("id");
         if (existing) alreadyMade++;
-        else deliveryIds.push(await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: p.sourceRenderId }, trx));
+        else {
+          const id = await createDelivery({ trackId: p.trackId, formatId: f.id, sourceRenderId: source }, trx);
+          (printDone ? deliveryIds : waitingOnPrint).push(id);
+        }
       }
     }
   });
-  return { deliveryIds, alreadyMade, leftOut: plan.filter((p) => !p.sourceRenderId) };
+  return { deliveryIds, alreadyMade, leftOut: plan.filter((p) => !sources.has(p.trackId)), waitingOnPrint, printsQueued };
 }

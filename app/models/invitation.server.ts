@@ -2,7 +2,7 @@
 // link carries a random token of which only a SHA-256 is stored.
 import { createHash, randomBytes } from "node:crypto";
 import { db } from "../lib/db.server.ts";
-import { queueEmail } from "../lib/mail/mailer.server.ts";
+import { queueEmail, SECRET_PLACEHOLDER } from "../lib/mail/mailer.server.ts";
 import { invitationEmail } from "../lib/mail/templates.server.ts";
 import { hashPassword } from "../lib/password.server.ts";
 import { normalizeEmail } from "./user.server.ts";
@@ -44,10 +44,11 @@ export async function createInvitation(input: {
       studioName: studio?.name ?? "Your studio",
       inviterName: inviter?.name ?? "The studio",
       role: input.role,
-      link: invitationLink(input.publicUrl, token),
+      // The stored body holds a placeholder; the token goes sealed beside it until sent.
+      link: invitationLink(input.publicUrl, SECRET_PLACEHOLDER),
       expiresInDays: INVITATION_DAYS,
     });
-    const emailId = await queueEmail(t, { to: normalizeEmail(input.email), ...parts, kind: "invitation", studioId: input.studioId });
+    const emailId = await queueEmail(t, { to: normalizeEmail(input.email), ...parts, kind: "invitation", studioId: input.studioId, secret: token });
     return { token, emailId };
   });
 }

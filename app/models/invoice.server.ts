@@ -1,6 +1,7 @@
 // Invoices of releases: built from the studio's rates as a draft, sent (which
 // numbers it and queues the e-mail), paid online through Checkout, or voided.
 // Payment itself is applied by the webhook (app/lib/billing/payment-events.server.ts).
+import type { InvoiceErrorCode } from "../lib/billing/invoice-errors.ts";
 import type { Knex } from "knex";
 import type Stripe from "stripe";
 import { db } from "../lib/db.server.ts";
@@ -57,7 +58,11 @@ export type InvoiceRow = {
 };
 
 export class BillingError extends Error {
-  constructor(message: string) {
+  constructor(
+    message: string,
+    /** What the page may say about it (app/lib/billing/invoice-errors.ts). */
+    readonly code: InvoiceErrorCode = "refused",
+  ) {
     super(message);
     this.name = "BillingError";
   }
@@ -118,11 +123,11 @@ export async function tracksForBilling(releaseId: string, conn: Conn = db): Prom
 export async function buildInvoice(releaseId: string, conn: Knex = db): Promise<Invoice> {
   return conn.transaction(async (trx) => {
     const release = await trx("releases").where({ id: releaseId }).forUpdate().first<{ id: string; studio_id: string } | undefined>("id", "studio_id");
-    if (!release) throw new BillingError("no such release");
+    if (!release) throw new BillingError("no such release", "no-invoice");
     const existing = await trx<InvoiceRow>("invoices").where({ release_id: releaseId }).whereNot({ state: "void" }).forUpdate().first();
-    if (existing && existing.state !== "draft") throw new BillingError(`the release's invoice is already ${existing.state}; void it to bill again`);
+    if (existing && existing.state !== "draft") throw new BillingError(`the release's invoice is already ${existing.state}; void it to bill again`, "already-billed");
     const tracks = await tracksForBilling(releaseId, trx);
-    if (tracks.length === 0) throw new BillingError("a release without tracks has nothing to bill");
+    if (tracks.length === 0) throw new BillingError("a release without tracks has nothing to bill", "no-tracks");
     const settings = await getStudioSettings(release.studio_id, trx);
     const lines = buildInvoiceLines(tracks, { trackRateCents: settings.trackRateCents, revisionRateCents: settings.revisionRateCents });
     const values = { currency: settings.currency, total_cents: totalCents(lines), updated_at: trx.fn.now() };
@@ -176,11 +181,11 @@ export async function sendInvoice(invoiceId: string, options: { appUrl?: string 
   const appUrl = options.appUrl ?? publicAppUrl();
   return conn.transaction(async (trx) => {
     const row = await trx<InvoiceRow>("invoices").where({ id: invoiceId }).forUpdate().first();
-    if (!row) throw new BillingError("no such invoice");
+    if (!row) throw new BillingError("no such invoice", "no-invoice");
     assertMove(row.state, "sent");
-    if (row.total_cents <= 0) throw new BillingError("an invoice of nothing cannot be sent; set the studio's rates first");
+    if (row.total_cents <= 0) throw new BillingError("an invoice of nothing cannot be sent; set the studio's rates first", "nothing-to-send");
     const recipients = await billingRecipients(row.release_id, trx);
-    if (recipients.length === 0) throw new BillingError("the release's client has no member to send the invoice to");
+    if (recipients.length === 0) throw new BillingError("the release's client has no member to send the invoice to", "no-recipient");
     const number = await takeInvoiceNumber(trx, row.studio_id);
     const [sent] = await trx("invoices")
       .where({ id: invoiceId })
@@ -205,7 +210,7 @@ export async function sendInvoice(invoiceId: string, options: { appUrl?: string 
 export async function voidInvoice(invoiceId: string, conn: Knex = db): Promise<Invoice> {
   return conn.transaction(async (trx) => {
     const row = await trx<InvoiceRow>("invoices").where({ id: invoiceId }).forUpdate().first();
-    if (!row) throw new BillingError("no such invoice");
+    if (!row) throw new BillingError("no such invoice", "no-invoice");
     assertMove(row.state, "void");
     const [voided] = await trx("invoices")
       .where({ id: invoiceId })
@@ -229,8 +234,8 @@ export async function startCheckout(
   conn: Knex = db,
 ): Promise<{ sessionId: string; url: string }> {
   const row = await conn<InvoiceRow>("invoices").where({ id: invoiceId }).first();
-  if (!row) throw new BillingError("no such invoice");
-  if (row.state !== "sent") throw new BillingError(`only a sent invoice can be paid (this one is ${row.state})`);
+  if (!row) throw new BillingError("no such invoice", "no-invoice");
+  if (row.state !== "sent") throw new BillingError(`only a sent invoice can be paid (this one is ${row.state})`, "not-payable");
   const client = options.client ?? getPaymentsClient();
   const newest = await conn("invoice_checkout_sessions").where({ invoice_id: invoiceId }).orderBy("created_at", "desc").first<{ session_id: string; amount_cents: number; currency: string } | undefined>();
   if (newest && newest.amount_cents === row.total_cents && newest.currency === row.currency) {
@@ -252,7 +257,7 @@ export async function startCheckout(
   );
   await conn.transaction(async (trx) => {
     const now = await trx<InvoiceRow>("invoices").where({ id: invoiceId }).forUpdate().first("state", "total_cents");
-    if (now?.state !== "sent" || now.total_cents !== row.total_cents) throw new BillingError("the invoice changed while the payment page was being opened");
+    if (now?.state !== "sent" || now.total_cents !== row.total_cents) throw new BillingError("the invoice changed while the payment page was being opened", "changed");
     await trx("invoice_checkout_sessions").insert({ session_id: session.id, invoice_id: invoiceId, amount_cents: row.total_cents, currency: row.currency });
   });
   return { sessionId: session.id, url: session.url };

@@ -11,7 +11,7 @@ import { pipeline } from "node:stream/promises";
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
-import { probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
+import { checkWavSamples, probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
 import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
 import { toJsonValue } from "../jobs/json.ts";
 
@@ -208,6 +208,35 @@ const formatSize = (bytes: number) =>
   bytes >= 1e9 ? `${(bytes / 1e9).toFixed(1)} GB` : bytes >= 1e6 ? `${(bytes / 1e6).toFixed(0)} MB` : `${(bytes / 1e3).toFixed(0)} kB`;
 
 /**
+ * Spools an upload to `spooled` (never whole in memory, stopped at
+ * `maxBytes`) and recognises it by its WAV header, not its name; a refused
+ * file throws MixUploadError. Mixes and reference tracks share it, so both
+ * refuse the same files with the same words.
+ */
+export async function spoolWav(body: Readable | AsyncIterable<Uint8Array>, spooled: string, maxBytes: number) {
+  let received = 0;
+  const limit = new Transform({
+    transform(chunk: Buffer, _encoding, done) {
+      received += chunk.length;
+      if (received > maxBytes) done(new MixUploadError("too-large", `the file is larger than the limit of ${formatSize(maxBytes)}`));
+      else done(null, chunk);
+    },
+  });
+  await pipeline(body, limit, createWriteStream(spooled));
+  const sizeBytes = (await stat(spooled)).size;
+  if (sizeBytes === 0) throw new MixUploadError("empty", "the file is empty");
+  try {
+    const format = await probeWav(spooled);
+    // A float file of NaN or infinite samples would fail every analysis: refused here, naming the first.
+    await checkWavSamples(spooled);
+    return { sizeBytes, format };
+  } catch (error) {
+    if (error instanceof WavFormatError) throw new MixUploadError(error.code, error.message);
+    throw error;
+  }
+}
+
+/**
  * An uploaded file, as it streams in, becomes the track's next mix version:
  * spooled to a temporary file (never whole in memory, and stopped at
  * `maxBytes`), recognised by its WAV header (not its name), stored, given its
@@ -225,24 +254,7 @@ export async function addUploadedMix(input: {
   const folder = await mkdtemp(path.join(process.env.UPLOAD_TMP_DIR ?? os.tmpdir(), "tidemark-upload-"));
   const spooled = path.join(folder, "upload.wav");
   try {
-    let received = 0;
-    const limit = new Transform({
-      transform(chunk: Buffer, _encoding, done) {
-        received += chunk.length;
-        if (received > maxBytes) done(new MixUploadError("too-large", `the file is larger than the limit of ${formatSize(maxBytes)}`));
-        else done(null, chunk);
-      },
-    });
-    await pipeline(input.body, limit, createWriteStream(spooled));
-    const sizeBytes = (await stat(spooled)).size;
-    if (sizeBytes === 0) throw new MixUploadError("empty", "the file is empty");
-    let format;
-    try {
-      format = await probeWav(spooled);
-    } catch (error) {
-      if (error instanceof WavFormatError) throw new MixUploadError(error.code, error.message);
-      throw error;
-    }
+    const { sizeBytes, format } = await spoolWav(input.body, spooled, maxBytes);
     const { mixId, storageKey } = newMixKey(input.trackId);
     await storage().put(storageKey, { filePath: spooled }, { contentType: "audio/wav" });
     try {

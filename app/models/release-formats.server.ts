@@ -84,7 +84,7 @@ export async function finishedFilesIn(releaseId: string, formatId: string): Prom
   return Number(row?.count ?? 0);
 }
 
-export type DeliveryListRow = { id: string; position: number; title: string; formatName: string; formatKept: boolean; state: string; warnings: string[] | null; error: string | null; createdAt: string };
+export type DeliveryListRow = { id: string; position: number; title: string; formatName: string; formatKept: boolean; state: string; warnings: string[] | null; error: string | null; createdAt: string; integratedLufs: number | null; truePeakDbtp: number | null };
 
 /** The release's deliveries, newest first (at most 200), with the format's name as it was made and whether the file is still in it. */
 export async function listReleaseDeliveries(releaseId: string): Promise<DeliveryListRow[]> {
@@ -93,5 +93,5 @@ export async function listReleaseDeliveries(releaseId: string): Promise<Delivery
     .where("d.release_id", releaseId)
     .orderBy([{ column: "d.created_at", order: "desc" }, { column: "t.position" }])
     .limit(200)
-    .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), db.raw(`d.format_id IS NOT NULL AS "formatKept"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt");
+    .select("d.id", "t.position", "t.title", db.raw(`d.format->>'name' AS "formatName"`), db.raw(`d.format_id IS NOT NULL AS "formatKept"`), "d.state", "d.warnings", "d.error", "d.created_at as createdAt", db.raw(`(d.analysis->>'integratedLufs')::float8 AS "integratedLufs"`), db.raw(`(d.analysis->>'truePeakDbtp')::float8 AS "truePeakDbtp"`));
 }

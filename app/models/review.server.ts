@@ -10,7 +10,7 @@ import { db } from "../lib/db.server.ts";
 import { queueEmail } from "../lib/mail/mailer.server.ts";
 import { approvedEmail, changesRequestedEmail, renderForReviewEmail } from "../lib/mail/templates.server.ts";
 import { whereRenderVisible } from "../lib/render-visibility.server.ts";
-import { applyReviewEvent, deriveReviewState, renderRecipe, type ReviewEvent, type ReviewState } from "../lib/review/state.ts";
+import { applyReviewEvent, deriveReviewState, renderRecipe, sendReopensApproval, versionOf, type ReviewEvent, type ReviewState } from "../lib/review/state.ts";
 
 type Db = Knex | Knex.Transaction;
 
@@ -59,11 +59,19 @@ export async function trackContext(t: Db, trackId: string): Promise<TrackContext
 }
 
 /** The track a render belongs to (through its mix). */
-export async function trackOfRender(t: Db, renderId: string): Promise<{ trackId: string; state: string; regionStartS: number | null } | undefined> {
-  return t("renders as rd")
+export async function trackOfRender(t: Db, renderId: string): Promise<{ trackId: string; state: string; regionStartS: number | null; recipe: string } | undefined> {
+  const row = await t("renders as rd")
     .join("mixes as m", "m.id", "rd.mix_id")
     .where("rd.id", renderId)
-    .first("m.track_id as trackId", "rd.state as state", "rd.region_start_s as regionStartS");
+    .first<{ trackId: string; state: string; regionStartS: number | null; mixId: string; chainRevisionId: string; targetLufs: number | null } | undefined>(
+      "m.track_id as trackId",
+      "rd.state as state",
+      "rd.region_start_s as regionStartS",
+      "rd.mix_id as mixId",
+      "rd.chain_revision_id as chainRevisionId",
+      "rd.target_lufs as targetLufs",
+    );
+  return row && { trackId: row.trackId, state: row.state, regionStartS: row.regionStartS, recipe: renderRecipe(row) };
 }
 
 /** The client's people who follow this release. */
@@ -123,11 +131,11 @@ export async function reviewEvents(t: Db, trackId: string): Promise<ReviewEvent[
   return [
     ...mixes.map((m): ReviewEvent => ({ kind: "mix_added", at: m.created_at, mixId: m.id })),
     ...renders.map((r): ReviewEvent => ({ kind: "render_done", at: r.finished_at, renderId: r.id, mixId: r.mix_id, recipe: recipes.get(r.id) })),
-    ...requests.map((q): ReviewEvent => ({ kind: "sent", at: q.created_at, renderId: q.render_id, userId: q.sent_by, message: q.message })),
+    ...requests.map((q): ReviewEvent => ({ kind: "sent", at: q.created_at, renderId: q.render_id, userId: q.sent_by, message: q.message, recipe: recipes.get(q.render_id) })),
     ...verdicts.map((v): ReviewEvent =>
       v.kind === "approve"
         ? { kind: "approved", at: v.created_at, renderId: v.render_id, userId: v.user_id, recipe: recipes.get(v.render_id) }
-        : { kind: "changes_asked", at: v.created_at, renderId: v.render_id, userId: v.user_id, note: v.note ?? "" },
+        : { kind: "changes_asked", at: v.created_at, renderId: v.render_id, userId: v.user_id, note: v.note ?? "", recipe: recipes.get(v.render_id) },
     ),
   ];
 }
@@ -167,7 +175,7 @@ export async function listReviewHistory(trackId: string): Promise<ReviewHistoryI
   return items.sort((a, b) => a.at.getTime() - b.at.getTime());
 }
 
-type Locked = { ctx: TrackContext; state: ReviewState };
+type Locked = { ctx: TrackContext; state: ReviewState; recipe: string };
 
 /** Opens the transaction, locks the render's track, and derives its state under the lock. */
 async function withTrackLocked<T>(renderId: string, run: (t: Knex.Transaction, locked: Locked) => Promise<T>): Promise<T> {
@@ -178,13 +186,26 @@ async function withTrackLocked<T>(renderId: string, run: (t: Knex.Transaction, l
     const ctx = (await trackContext(t, render.trackId))!;
     if (render.state !== "done") throw new ReviewActionError("Only a finished render can be reviewed.");
     const { state } = deriveReviewState(await reviewEvents(t, render.trackId));
-    return run(t, { ctx, state });
+    return run(t, { ctx, state, recipe: render.recipe });
   });
 }
 
 function check(state: ReviewState, event: ReviewEvent): void {
   const result = applyReviewEvent(state, event);
   if (!result.ok) throw new ReviewActionError(result.reason);
+}
+
+/**
+ * What sending this render would do to a client who has approved: null when
+ * nothing (not approved, or the approved master again), else the approved
+ * version and the version this one would be. Shown to the engineer before sending.
+ */
+export async function sendWarning(renderId: string): Promise<{ approvedVersion: number; version: number } | null> {
+  const render = await trackOfRender(db, renderId);
+  if (!render) return null;
+  const { state } = deriveReviewState(await reviewEvents(db, render.trackId));
+  if (!sendReopensApproval(state, render.recipe) || state.approvedVersion === null) return null;
+  return { approvedVersion: state.approvedVersion, version: versionOf(state, render.recipe) };
 }
 
 export type ReviewResult = { id: string; state: ReviewState; emailIds: string[] };
@@ -194,12 +215,18 @@ async function after(t: Knex.Transaction, trackId: string, id: string, emailIds:
 }
 
 /** An engineer (or owner) sends a finished render to the client; each of the client's people gets an e-mail. */
-export async function sendForReview(input: { renderId: string; senderId: string; message?: string | null; link: string }): Promise<ReviewResult> {
+export async function sendForReview(input: { renderId: string; senderId: string; message?: string | null; link: string; confirmNewReview?: boolean }): Promise<ReviewResult> {
   const message = input.message?.trim() || null;
-  return withTrackLocked(input.renderId, async (t, { ctx, state }) => {
+  return withTrackLocked(input.renderId, async (t, { ctx, state, recipe }) => {
     const sender = await partOf(t, ctx, input.senderId);
     if (sender.part !== "staff") throw new ReviewForbiddenError("only the studio sends renders for review");
-    check(state, { kind: "sent", at: new Date(), renderId: input.renderId, userId: input.senderId, message });
+    // A client who approved is asked to review again only when the engineer has seen that and confirmed it.
+    if (sendReopensApproval(state, recipe) && !input.confirmNewReview) {
+      throw new ReviewActionError(
+        `The client approved version ${state.approvedVersion}. This is a different master (version ${versionOf(state, recipe)}): sending it asks them to review again. Tick the confirmation to send it.`,
+      );
+    }
+    check(state, { kind: "sent", at: new Date(), renderId: input.renderId, userId: input.senderId, message, recipe });
     const [row] = await t("review_requests")
       .insert({ track_id: ctx.trackId, render_id: input.renderId, message, sent_by: input.senderId })
       .returning<{ id: string }[]>("id");
@@ -213,15 +240,15 @@ export async function sendForReview(input: { renderId: string; senderId: string;
 }
 
 async function verdict(input: { renderId: string; userId: string; note: string | null; link: string }, kind: "approve" | "changes"): Promise<ReviewResult> {
-  return withTrackLocked(input.renderId, async (t, { ctx, state }) => {
+  return withTrackLocked(input.renderId, async (t, { ctx, state, recipe }) => {
     const who = await partOf(t, ctx, input.userId);
     if (who.part !== "client") throw new ReviewForbiddenError("only the release's client gives the verdict");
     const at = new Date();
     check(
       state,
       kind === "approve"
-        ? { kind: "approved", at, renderId: input.renderId, userId: input.userId }
-        : { kind: "changes_asked", at, renderId: input.renderId, userId: input.userId, note: input.note ?? "" },
+        ? { kind: "approved", at, renderId: input.renderId, userId: input.userId, recipe }
+        : { kind: "changes_asked", at, renderId: input.renderId, userId: input.userId, note: input.note ?? "", recipe },
     );
     const [row] = await t("review_events")
       .insert({ track_id: ctx.trackId, render_id: input.renderId, kind, note: input.note, user_id: input.userId })
@@ -261,6 +288,7 @@ export type ReviewableRender = {
   chainRevisionId: string;
   revision: number;
   params: unknown;
+  targetLufs: number | null;
   integratedLufs: number | null;
   finishedAt: Date;
   sentForReview: boolean;
@@ -296,6 +324,7 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
       "cr.id as chain_revision_id",
       "cr.revision",
       "cr.params",
+      "rd.target_lufs",
       "rd.output_analysis",
       "rd.finished_at",
       "rd.output_key",
@@ -315,6 +344,7 @@ export async function listReviewableRenders(viewer: Viewer, trackId: string): Pr
     chainRevisionId: row.chain_revision_id,
     revision: row.revision,
     params: row.params,
+    targetLufs: row.target_lufs,
     integratedLufs: finiteOrNull(row.output_analysis?.integratedLufs),
     finishedAt: row.finished_at,
     sentForReview: row.sent_for_review,

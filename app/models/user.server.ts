@@ -1,6 +1,8 @@
 // Users and the membership that gives them a role in a studio.
 import { db } from "../lib/db.server.ts";
 import type { Role } from "../lib/roles.ts";
+import { hashPassword, verifyPassword } from "../lib/password.server.ts";
+import { endSessionsOfUser } from "../lib/session.server.ts";
 
 export type CurrentUser = {
   id: string;
@@ -53,6 +55,20 @@ export async function getCurrentUser(userId: string, studioId: string): Promise<
     clientId: row.client_id,
     clientName: row.client_name,
   };
+}
+
+/**
+ * Changes the password when the current one is right, and ends every other
+ * session of the user (the one kept is the caller's own). False when the
+ * current password is wrong.
+ */
+export async function changePassword(userId: string, current: string, next: string, keepSessionIdHash: string | undefined): Promise<boolean> {
+  const row = await db("users").where({ id: userId }).first<{ password_hash: string } | undefined>("password_hash");
+  if (!row || !(await verifyPassword(current, row.password_hash))) return false;
+  const passwordHash = await hashPassword(next);
+  await db("users").where({ id: userId }).update({ password_hash: passwordHash });
+  await endSessionsOfUser(userId, { exceptIdHash: keepSessionIdHash });
+  return true;
 }
 
 export async function updateUserName(userId: string, name: string): Promise<void> {

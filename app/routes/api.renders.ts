@@ -8,6 +8,7 @@ import { renderView } from "../lib/api-views.server.ts";
 import { pageOf, requestedPage } from "../lib/api-paging.server.ts";
 import { STAFF } from "../lib/roles.ts";
 import { createRender, listRendersForTrack } from "../models/render.server.ts";
+import { printRefusal } from "../../dsp/chain/print-check.ts";
 import { apiRenderSchema } from "../schemas/api.ts";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -34,6 +35,8 @@ export async function action({ request }: Route.ActionArgs) {
     });
     const revision = await revisionForTrack(user, input.chainRevisionId, mix.trackId);
     if (!revision) return apiError(400, "Some fields are not valid", { chainRevisionId: "must be a revision of a studio template or of this track's chain" });
+    const refusal = input.kind === "print" ? printRefusal(revision.params) : null;
+    if (refusal) return apiError(400, "Some fields are not valid", { chainRevisionId: refusal });
     if (input.region && input.region.endS > mix.durationSeconds + 1e-6) {
       return apiError(400, "Some fields are not valid", { "region.endS": `must be within the mix (${mix.durationSeconds.toFixed(2)} s)` });
     }

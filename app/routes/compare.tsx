@@ -7,7 +7,8 @@
 // chain parameters that differ; comments pinned to times, and the review
 // step: send A for review (staff), approve it or ask for changes (client).
 import { useState } from "react";
-import { Form, useNavigation, useSearchParams } from "react-router";
+import { Form, redirect, useNavigation, useSearchParams } from "react-router";
+import { roomPath } from "../lib/review/room-path.ts";
 import type { Route } from "./+types/compare";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
@@ -18,9 +19,12 @@ import { choosePair } from "../lib/compare/sources.ts";
 import { reviewPageAction, type ReviewActionData } from "../lib/review/page-action.server.ts";
 import { diffParams } from "../models/chain.server.ts";
 import { listComments } from "../models/comment.server.ts";
-import { listCompareSources, sourceAnalysis, sourceTraces, type CompareSource } from "../models/compare-source.server.ts";
+import { listCompareSources, referenceOffsetS, sourceAnalysis, sourceSpectrum, sourceTraces, type CompareSource } from "../models/compare-source.server.ts";
+import { parseAlignment } from "../lib/compare/reference-alignment.ts";
+import { SpectrumChart } from "../components/spectrum/spectrum-chart.tsx";
 import { shownReviewState } from "../lib/review/state.ts";
-import { getTrackReview } from "../models/review.server.ts";
+import { getTrackReview, sendWarning } from "../models/review.server.ts";
+import { SendForReviewForm } from "../components/review/send-form.tsx";
 import { getTrack } from "../models/track.server.ts";
 import { AbPlayer } from "../components/player/ab-player.tsx";
 import { AnalysesCompare } from "../components/player/analyses-compare.tsx";
@@ -38,9 +42,25 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
   const staff = isStaff(user.role);
+  // A client listens in the review room, which always plays; comparing sources is the studio's page.
+  if (!staff) throw redirect(roomPath(release.id, track.id, new URL(request.url).searchParams.get("a")));
   const sources = await listCompareSources(user, { id: track.id, releaseId: release.id });
   const url = new URL(request.url);
-  const { a, b } = choosePair(sources, { a: url.searchParams.get("a"), b: url.searchParams.get("b") });
+  const pair = choosePair(sources, { a: url.searchParams.get("a"), b: url.searchParams.get("b") });
+  // A reference is lined up with the other source: at the points picked, else at the loudest 30 s of each.
+  let alignment: { masterS: number; referenceS: number; picked: boolean } | null = null;
+  const refSlot = pair.b?.type === "reference" && pair.a?.type !== "reference" ? "b" : pair.a?.type === "reference" && pair.b && pair.b.type !== "reference" ? "a" : null;
+  if (refSlot && pair.a && pair.b) {
+    const reference = pair[refSlot]!;
+    const master = refSlot === "b" ? pair.a : pair.b;
+    const picked = parseAlignment(url.searchParams);
+    const found = await referenceOffsetS(master, reference, picked);
+    if (found) {
+      pair[refSlot] = { ...reference, offsetS: found.offsetS };
+      alignment = { masterS: found.masterS, referenceS: found.referenceS, picked: picked !== null };
+    }
+  }
+  const { a, b } = pair;
   const review = await getTrackReview(track.id);
 
   let aligned: AlignedTraces | null = null;
@@ -61,6 +81,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     if (a.render && b.render) changes = labelChanges(diffParams(b.render.params, a.render.params), b.render.params, a.render.params);
   }
   const [analysisA, analysisB] = a && b ? await Promise.all([sourceAnalysis(a), sourceAnalysis(b)]) : [null, null];
+  const [spectrumA, spectrumB] = staff && a && b ? await Promise.all([sourceSpectrum(a), sourceSpectrum(b)]) : [null, null];
   const view = (s: CompareSource) => ({
     key: s.key,
     type: s.type,
@@ -80,11 +101,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     a: a && view(a),
     b: b && view(b),
     analyses: { a: analysisA, b: analysisB },
+    spectra: { a: spectrumA, b: spectrumB },
+    alignment,
     review: shownReviewState(review.state),
-    comments: a ? await listComments(a.type === "render" ? { renderId: a.id } : { mixId: a.id }) : [],
+    comments: a && a.type !== "reference" ? await listComments(a.type === "render" ? { renderId: a.id } : { mixId: a.id }) : [],
     aligned,
     changes,
     sameChain: a?.render && b?.render ? a.render.chainRevisionId === b.render.chainRevisionId : false,
+    sendWarning: staff && a?.type === "render" ? await sendWarning(a.id) : null,
   };
 }
 
@@ -93,7 +117,7 @@ export async function action(args: Route.ActionArgs) {
 }
 
 export default function Compare({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, track, staff, choices, a, b, analyses, review, comments, aligned, changes, sameChain } = loaderData;
+  const { release, track, staff, choices, a, b, analyses, review, comments, aligned, changes, sameChain, spectra, alignment } = loaderData;
   const [positionS, setPositionS] = useState<number | null>(null);
   const [commentTime, setCommentTime] = useState("");
   const [loop, setLoop] = useState<{ startS: number; endS: number } | null>(null);
@@ -114,7 +138,8 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
   const error = (actionData as ReviewActionData | undefined)?.error;
   const renderChoices = choices.filter((c) => c.type === "render");
   const mixChoices = choices.filter((c) => c.type === "mix");
-  const target = a ? (a.type === "render" ? { renderId: a.id } : { mixId: a.id }) : null;
+  const referenceChoices = choices.filter((c) => c.type === "reference");
+  const target = a && a.type !== "reference" ? (a.type === "render" ? { renderId: a.id } : { mixId: a.id }) : null;
 
   return (
     <>
@@ -146,6 +171,15 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
                     ))}
                   </optgroup>
                 )}
+                {referenceChoices.length > 0 && (
+                  <optgroup label="References (studio only)">
+                    {referenceChoices.map((c) => (
+                      <option key={c.key} value={c.key}>
+                        {c.label}
+                      </option>
+                    ))}
+                  </optgroup>
+                )}
               </select>
             </label>
           ))}
@@ -154,6 +188,8 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
           </button>
         </Form>
       )}
+
+      {alignment && a && b && <ReferenceAlignment alignment={alignment} a={a.key} b={b.key} referenceIsA={a.type === "reference"} />}
 
       {a && b ? (
         <AbPlayer
@@ -180,6 +216,20 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
               </h2>
               <AnalysesCompare a={analyses.a} b={analyses.b} labels={{ a: a.label, b: b.label }} />
               {(a.preview || b.preview) && <p className="mt-1 text-xs text-ink-soft">A preview's figures are of its region only.</p>}
+            </section>
+          )}
+          {staff && a && b && (spectra.a || spectra.b) && (
+            <section aria-labelledby="spectrum">
+              <h2 id="spectrum" className="mb-2 text-lg font-semibold">
+                Spectrum
+              </h2>
+              <SpectrumChart
+                series={[
+                  { key: "a", label: `A · ${a.label}`, bands: spectra.a },
+                  { key: "b", label: `B · ${b.label}`, bands: spectra.b },
+                ]}
+              />
+              {(a.preview || b.preview) && <p className="mt-1 text-xs text-ink-soft">A preview's spectrum is of its region only.</p>}
             </section>
           )}
           {staff && aligned && a && b && (
@@ -229,17 +279,7 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
               </h2>
               {review.status === "changes_asked" && review.changesNote && <blockquote className="border-l-2 border-accent pl-3 text-sm">{review.changesNote}</blockquote>}
               {staff ? (
-                <Form method="post" className="space-y-2">
-                  <input type="hidden" name="intent" value="send" />
-                  <input type="hidden" name="renderId" value={aRender.id} />
-                  <label className="block text-sm">
-                    Message to the client (optional)
-                    <textarea name="message" rows={3} maxLength={4000} className="field-input mt-1" />
-                  </label>
-                  <button type="submit" className="btn-primary" disabled={busy}>
-                    {underReview ? "Send A again" : "Send A for review"}
-                  </button>
-                </Form>
+                <SendForReviewForm renderId={aRender.id} clientName={release.clientName} warning={loaderData.sendWarning} busy={busy} label={underReview ? "Send A again" : "Send A for review"} />
               ) : underReview && review.status === "sent" ? (
                 <VerdictForms renderId={aRender.id} busy={busy} />
               ) : (
@@ -278,6 +318,42 @@ export default function Compare({ loaderData, actionData }: Route.ComponentProps
         </aside>
       </div>
     </>
+  );
+}
+
+/**
+ * How a reference lines up with the master: the loudest 30 s of each by
+ * default, or two moments picked here (A's time on the page's axis, the
+ * reference's own time). Level matching is the player's: the louder of the
+ * two is turned down to the other's loudness, nothing is ever turned up.
+ */
+function ReferenceAlignment({ alignment, a, b, referenceIsA }: { alignment: { masterS: number; referenceS: number; picked: boolean }; a: string; b: string; referenceIsA: boolean }) {
+  return (
+    <Form method="get" className="mb-4 flex flex-wrap items-end gap-3 text-sm" aria-label="Line up the reference" data-testid="reference-alignment">
+      <input type="hidden" name="a" value={a} />
+      <input type="hidden" name="b" value={b} />
+      <p className="basis-full text-ink-soft">
+        {alignment.picked ? "Lined up at the moments picked" : "Lined up at the loudest 30 s of each"}: {referenceIsA ? "B" : "A"} at{" "}
+        <span className="num">{formatClock(alignment.masterS)}</span> with the reference at <span className="num">{formatClock(alignment.referenceS)}</span>. Levels are
+        matched by loudness: the louder one is turned down, never the quieter one up.
+      </p>
+      <label>
+        <span className="mb-1 block text-xs text-ink-soft">Master at (s)</span>
+        <input name="at" type="number" min={0} step={0.1} defaultValue={alignment.masterS.toFixed(1)} className="field-input num w-28" />
+      </label>
+      <label>
+        <span className="mb-1 block text-xs text-ink-soft">Reference at (s)</span>
+        <input name="refAt" type="number" min={0} step={0.1} defaultValue={alignment.referenceS.toFixed(1)} className="field-input num w-28" />
+      </label>
+      <button type="submit" className="btn-quiet">
+        Line up here
+      </button>
+      {alignment.picked && (
+        <a href={`?a=${encodeURIComponent(a)}&b=${encodeURIComponent(b)}`} className="text-accent-deep underline-offset-4 hover:underline">
+          Back to the loudest 30 s
+        </a>
+      )}
+    </Form>
   );
 }
 

@@ -55,7 +55,7 @@ export default function Dashboard({ loaderData }: Route.ComponentProps) {
           <ul className="card divide-y divide-rule">
             {reviews.map((r) => (
               <li key={r.trackId} className="flex flex-wrap items-baseline justify-between gap-2 px-4 py-2 text-sm">
-                <Link to={`/releases/${r.releaseId}/tracks/${r.trackId}/compare`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                <Link to={`/releases/${r.releaseId}/room?track=${r.trackId}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
                   {r.releaseTitle} · {r.trackTitle}
                 </Link>
                 <span data-review-status={r.status}>{REVIEW_STATUS_LABEL[r.status]}</span>

@@ -5,13 +5,13 @@
 import { Link } from "react-router";
 import type { Route } from "./+types/loudness-report";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
-import { loudnessReport } from "../models/delivery.server.ts";
+import { albumLoudnessReport } from "../models/album-report.server.ts";
 import { PageHeader } from "../components/page-header.tsx";
 import { DataTable } from "../components/data-table.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { release } = await requireReleaseAccess(request, params.releaseId);
-  return { release: { id: release.id, title: release.title, clientName: release.clientName }, report: await loudnessReport(release.id) };
+  const { user, release } = await requireReleaseAccess(request, params.releaseId);
+  return { release: { id: release.id, title: release.title, clientName: release.clientName }, report: await albumLoudnessReport(user, release.id) };
 }
 
 const fixed = (v: number | null, decimals: number) => (v === null ? "—" : v.toFixed(decimals).replace("-", "−"));
@@ -51,7 +51,8 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
       />
       <p className="mb-4 max-w-3xl text-sm text-ink-soft">
         Measured on the delivered files (ITU-R BS.1770-4 loudness, EBU Tech 3342 loudness range, true peak). PLR is true peak minus integrated loudness. The turn-down columns show how far a
-        player that normalises to each reference level would lower the track; quieter tracks are assumed not to be raised.
+        player that normalises to each reference level would lower the track; quieter tracks are assumed not to be raised. The album row measures the current masters
+        played in order with their gaps, gated across the whole album, so a player's album mode keeps the tracks' balance.
       </p>
       {report.rows.length === 0 ? (
         <p className="card px-5 py-8 text-center text-ink-soft">No tracks yet.</p>
@@ -65,6 +66,7 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
             { label: "Integrated (LUFS)", align: "right" },
             { label: "LRA (LU)", align: "right" },
             { label: "True peak (dBTP)", align: "right" },
+            { label: "Reconstructed peak (dBFS)", align: "right" },
             { label: "PLR (dB)", align: "right" },
             ...report.references.map((r) => ({
               label: (
@@ -86,6 +88,7 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
               <td className="num text-right">{fixed(row.integratedLufs, 1)}</td>
               <td className="num text-right">{fixed(row.loudnessRangeLu, 1)}</td>
               <td className="num text-right">{fixed(row.truePeakDbtp, 2)}</td>
+              <td className="num text-right">{fixed(row.reconstructedPeakDb, 2)}</td>
               <td className="num text-right">{fixed(row.plrDb, 1)}</td>
               {row.turnDownDb.map((v, i) => (
                 <td key={report.references[i]!.name} className="num text-right">
@@ -95,6 +98,22 @@ export default function LoudnessReport({ loaderData }: Route.ComponentProps) {
               <td className="text-sm">{row.warnings.length > 0 ? row.warnings.join("; ") : "none"}</td>
             </tr>
           ))}
+          {report.album && (
+            <tr data-testid="album-row" className="border-t-2 border-rule font-medium">
+              <td>Album ({report.album.trackCount} tracks, masters with gaps)</td>
+              <td>album</td>
+              <td className="num text-right">{fixed(report.album.integratedLufs, 1)}</td>
+              <td className="num text-right">{fixed(report.album.loudnessRangeLu, 1)}</td>
+              <td className="num text-right">{fixed(report.album.truePeakDbtp, 2)}</td>
+              <td className="num text-right">{fixed(report.album.plrDb, 1)}</td>
+              {report.album.turnDownDb.map((v, i) => (
+                <td key={report.references[i]!.name} className="num text-right">
+                  {fixed(v, 1)}
+                </td>
+              ))}
+              <td className="text-sm">{report.album.note ?? "none"}</td>
+            </tr>
+          )}
         </DataTable>
       )}
     </>

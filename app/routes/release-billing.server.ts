@@ -1,6 +1,7 @@
 // What the release page shows of billing and finals: the invoice (a client
 // sees it once sent), whether the finals are open to this user, and whether
 // there is anything delivered to download.
+import { invoiceErrorMessage } from "../lib/billing/invoice-errors.ts";
 import type { CurrentUser } from "../models/user.server.ts";
 import { db } from "../lib/db.server.ts";
 import { isStaff } from "../lib/roles.ts";
@@ -29,7 +30,8 @@ export async function releaseBillingData(releaseId: string, user: Pick<CurrentUs
     paid,
     finalsOpen,
     hasDeliveries: delivered !== undefined,
-    invoiceError: search.get("invoiceError"),
+    // A code from the query string, said as our own sentence.
+    invoiceError: invoiceErrorMessage(search.get("invoiceError")),
     returnedFromPayment: search.has("paid"),
   };
 }

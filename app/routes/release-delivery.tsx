@@ -5,7 +5,9 @@
 // deliveries with their state and warnings. Staff only: clients get their
 // files from the release page. Deleting a format has a confirmation step;
 // what becomes of its files is app/models/release-formats.server.ts.
-import { data, Form, Link, redirect } from "react-router";
+import { useEffect } from "react";
+import { data, Form, Link, redirect, useRevalidator } from "react-router";
+import { fmt } from "../components/render/format.ts";
 import { z } from "zod";
 import type { Route } from "./+types/release-delivery";
 import { DELIVERY_SAMPLE_RATES } from "../../dsp/delivery/delivery-format.ts";
@@ -63,21 +65,21 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     formats,
     ownFormats: own,
     deliveries: rows,
-    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.sourceRenderId !== null, reason: p.reason })),
+    tracks: plan.map((p) => ({ id: p.trackId, position: p.position, title: p.title, review: REVIEW_STATUS_LABEL[p.review], delivered: p.reason === null, reason: p.reason })),
   };
 }
 
-type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number };
-const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, ...r }, { status });
+type Reply = { intent: string; errors: Record<string, string | undefined>; values: Record<string, string>; queued: number; alreadyMade: number; leftOut: number; printsQueued: number };
+const reply = (r: Partial<Reply> & { intent: string }, status = 200) => data<Reply>({ errors: {}, values: {}, queued: 0, alreadyMade: 0, leftOut: 0, printsQueued: 0, ...r }, { status });
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const form = await request.formData();
   const intent = String(form.get("intent") ?? "");
   if (intent === "make") {
-    const { deliveryIds, alreadyMade, leftOut } = await queueReleaseDeliveries(release.id);
+    const { deliveryIds, alreadyMade, leftOut, waitingOnPrint, printsQueued } = await queueReleaseDeliveries(release.id, undefined, { createdBy: user.id });
     for (const id of deliveryIds) await enqueueDelivery(id, ASSUMED_AUDIO_SECONDS);
-    return reply({ intent, queued: deliveryIds.length, alreadyMade, leftOut: leftOut.length });
+    return reply({ intent, queued: deliveryIds.length + waitingOnPrint.length, alreadyMade, leftOut: leftOut.length, printsQueued });
   }
   if (intent === "delete-format") {
     if (form.get("confirm") !== "yes") return reply({ intent, errors: { form: "Confirm the deletion." } }, 400);
@@ -128,6 +130,16 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
   // Field defaults: what was typed (after a refusal), else the format being edited.
   const initial = add?.values.name !== undefined ? add.values : editing ? { name: editing.name, sampleRate: String(editing.sampleRate), bitDepth: String(editing.bitDepth), dither: editing.dither, ceilingDbtp: String(editing.ceilingDbtp), targetLufs: editing.targetLufs === undefined ? "" : String(editing.targetLufs) } : undefined;
   const made = actionData?.intent === "make" ? actionData : undefined;
+  // While files are being made (or wait for their print), reload the page's data every 2 s, as the render page does.
+  const revalidator = useRevalidator();
+  const working = deliveries.some((d) => d.state === "queued" || d.state === "running");
+  useEffect(() => {
+    if (!working) return;
+    const timer = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 2000);
+    return () => clearInterval(timer);
+  }, [working, revalidator]);
   return (
     <>
       <PageHeader
@@ -222,7 +234,7 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
           Tracks
         </h2>
         <p className="mb-3 text-sm text-ink-soft">
-          Only approved tracks are delivered, from the print the client approved. {tracks.length - leftOut.length} of {tracks.length} {tracks.length === 1 ? "track is" : "tracks are"} ready.
+          Only approved tracks are delivered, from a print of exactly what the client approved (made automatically when missing). {tracks.length - leftOut.length} of {tracks.length} {tracks.length === 1 ? "track is" : "tracks are"} ready.
         </p>
         {leftOut.length > 0 && (
           <div className="card p-5">
@@ -252,13 +264,13 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
         {made && (
           <FormNotice
             tone="info"
-            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.alreadyMade > 0 ? ` ${made.alreadyMade} already made (or on the way) from the same print were not made again.` : ""}${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
+            message={`${made.queued} ${made.queued === 1 ? "delivery" : "deliveries"} queued.${made.alreadyMade > 0 ? ` ${made.alreadyMade} already made (or on the way) from the same print were not made again.` : ""}${made.printsQueued > 0 ? ` ${made.printsQueued} approved ${made.printsQueued === 1 ? "track had" : "tracks had"} no print yet: rendering it now; its files follow when it is done.` : ""}${made.leftOut > 0 ? ` ${made.leftOut} ${made.leftOut === 1 ? "track was" : "tracks were"} left out (see Tracks above).` : ""}`}
           />
         )}
         {deliveries.length === 0 ? (
           <p className="card px-5 py-8 text-center text-ink-soft">No deliveries yet.</p>
         ) : (
-          <DataTable label="Deliveries" columns={[{ label: "Track" }, { label: "Format" }, { label: "State" }, { label: "Warnings" }]}>
+          <DataTable label="Deliveries" columns={[{ label: "Track" }, { label: "Format" }, { label: "State" }, { label: "Loudness" }, { label: "Warnings" }]}>
             {deliveries.map((d) => (
               <tr key={d.id}>
                 <td>
@@ -268,7 +280,16 @@ export default function ReleaseDelivery({ loaderData, actionData }: Route.Compon
                   {d.formatName}
                   {!d.formatKept && <span className="block text-xs text-ink-soft">format deleted or changed · not in the package</span>}
                 </td>
-                <td>{d.state}</td>
+                <td data-delivery-state={d.state}>{d.state}</td>
+                <td className="num text-sm whitespace-nowrap">
+                  {d.state === "done" ? (
+                    <>
+                      {fmt(d.integratedLufs, "LUFS")} <span className="text-ink-faint">· {fmt(d.truePeakDbtp, "dBTP")}</span>
+                    </>
+                  ) : (
+                    "—"
+                  )}
+                </td>
                 <td className="text-sm">{d.state === "failed" ? <span className="text-danger">{d.error}</span> : (d.warnings ?? []).length > 0 ? <span className="text-danger">{(d.warnings ?? []).join("; ")}</span> : d.state === "done" ? "none" : "—"}</td>
               </tr>
             ))}

@@ -1,7 +1,8 @@
 // POST /releases/:releaseId/invoice — the owner's invoice actions
 // (intent = build | send | void), and anyone's "pay" (a client of the release
 // or the owner) which opens the hosted payment page. Answers with a redirect;
-// a refused step comes back as ?invoiceError=… on the release page.
+// a refused step comes back as ?invoiceError=<code> on the release page,
+// which says the sentence for that code (never text from the query string).
 import { redirect } from "react-router";
 import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { publicAppUrl } from "../lib/billing/links.ts";
@@ -24,7 +25,7 @@ export async function action({ request, params }: { request: Request; params: { 
       return redirect(`${page}#invoice`);
     }
     const invoice = await getInvoiceForRelease(release.id);
-    if (!invoice) throw new BillingError("the release has no invoice yet");
+    if (!invoice) throw new BillingError("the release has no invoice yet", "no-invoice");
     if (intent === "send") await sendInvoice(invoice.id);
     else if (intent === "void") await voidInvoice(invoice.id);
     else {
@@ -39,7 +40,8 @@ export async function action({ request, params }: { request: Request; params: { 
     return redirect(`${page}#invoice`);
   } catch (error) {
     if (error instanceof BillingError || error instanceof InvoiceStateError) {
-      return redirect(`${page}?${new URLSearchParams({ invoiceError: error.message })}#invoice`);
+      const code = error instanceof BillingError ? error.code : "state";
+      return redirect(`${page}?${new URLSearchParams({ invoiceError: code })}#invoice`);
     }
     throw error;
   }

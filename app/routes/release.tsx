@@ -12,23 +12,59 @@ import { StatusBadge } from "../components/status-badge.tsx";
 import { releaseBillingData } from "./release-billing.server.ts";
 import { ReleaseBillingSection } from "./release-billing-section.tsx";
 import { DataTable } from "../components/data-table.tsx";
+import { deleteReference, listReferences } from "../models/reference.server.ts";
+import { loadAlbum, setAlbumGap } from "../models/album.server.ts";
+import { formatBytes, uploadMaxBytes } from "../lib/upload.server.ts";
+import { albumGapSchema, referenceDeleteSchema } from "../schemas/album.ts";
+import { getTrack } from "../models/track.server.ts";
+import { notFound } from "../lib/http.server.ts";
+import { ReferenceSection } from "../components/references/reference-section.tsx";
+import { AlbumView } from "../components/album/album-view.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const tracks = await listTracks(release.id);
   const billing = await releaseBillingData(release.id, user, new URL(request.url).searchParams);
-  return { billing, release, tracks, staff: isStaff(user.role), reviews: await reviewStatuses(tracks.map((t) => t.id)), sent: await listSentForRelease(release.id) };
+  const staff = isStaff(user.role);
+  // References and the album section are the studio's own (clients: neither is loaded).
+  const references = staff ? await listReferences(release.id) : [];
+  const album = staff && tracks.length > 0 ? await loadAlbum(user, release.id) : null;
+  return {
+    billing,
+    release,
+    tracks,
+    staff,
+    reviews: await reviewStatuses(tracks.map((t) => t.id)),
+    sent: await listSentForRelease(release.id),
+    references,
+    album,
+    uploadLimit: formatBytes(uploadMaxBytes()),
+  };
 }
 
-// The running order: staff move a track one place up or down.
+// Staff only: move a track one place up or down in the running order, set
+// the album gap before a track, delete a reference track.
 export async function action({ request, params }: Route.ActionArgs) {
   const { release } = await requireReleaseAccess(request, params.releaseId, STAFF);
   const form = await request.formData();
+  const intent = form.get("intent");
+  if (intent === "gap") {
+    const parsed = albumGapSchema.safeParse({ trackId: form.get("trackId"), gapS: form.get("gapS") });
+    if (!parsed.success) return data({ error: parsed.error.issues[0].message, intent }, { status: 400 });
+    if (!(await getTrack(release.id, parsed.data.trackId))) throw notFound();
+    await setAlbumGap(release.id, parsed.data.trackId, parsed.data.gapS);
+    return { error: null, intent };
+  }
+  if (intent === "delete-reference") {
+    const parsed = referenceDeleteSchema.safeParse({ referenceId: form.get("referenceId") });
+    if (!parsed.success || !(await deleteReference(release.id, parsed.data.referenceId))) throw notFound();
+    return { error: null, intent };
+  }
   const parsed = trackMoveSchema.safeParse({ trackId: form.get("trackId"), direction: form.get("direction") });
-  if (!parsed.success) return data({ error: parsed.error.issues[0].message }, { status: 400 });
+  if (!parsed.success) return data({ error: parsed.error.issues[0].message, intent: "move" }, { status: 400 });
   const moved = await moveTrack(release.id, parsed.data.trackId, parsed.data.direction);
-  if (!moved) return data({ error: "That track cannot move further." }, { status: 400 });
-  return { error: null };
+  if (!moved) return data({ error: "That track cannot move further.", intent: "move" }, { status: 400 });
+  return { error: null, intent: "move" };
 }
 
 function MoveButton({ trackId, title, direction, disabled }: { trackId: string; title: string; direction: "up" | "down"; disabled: boolean }) {
@@ -50,8 +86,8 @@ function MoveButton({ trackId, title, direction, disabled }: { trackId: string; 
   );
 }
 
-export default function Release({ loaderData }: Route.ComponentProps) {
-  const { release, tracks, staff, reviews, sent } = loaderData;
+export default function Release({ loaderData, actionData }: Route.ComponentProps) {
+  const { release, tracks, staff, reviews, sent, references, album, uploadLimit } = loaderData;
   const { billing } = loaderData;
   const busy = useNavigation().state !== "idle";
   return (
@@ -70,7 +106,7 @@ export default function Release({ loaderData }: Route.ComponentProps) {
         }
         title={release.title}
         actions={
-          staff && (
+          staff ? (
             <>
               <Link to={`/releases/${release.id}/tracks/new`} className="btn-primary">
                 Add track
@@ -78,7 +114,14 @@ export default function Release({ loaderData }: Route.ComponentProps) {
               <Link to={`/releases/${release.id}/edit`} className="btn-quiet">
                 Edit release
               </Link>
+              <Link to={`/releases/${release.id}/room`} className="btn-quiet">
+                Review room
+              </Link>
             </>
+          ) : (
+            <Link to={`/releases/${release.id}/room`} className="btn-primary">
+              Listen and review
+            </Link>
           )
         }
       />
@@ -130,7 +173,7 @@ export default function Release({ loaderData }: Route.ComponentProps) {
                 </p>
                 {item.message && <p className="mt-1 whitespace-pre-line">{item.message}</p>}
                 <p className="mt-2">
-                  <Link to={`/releases/${release.id}/tracks/${item.trackId}/compare?a=${item.renderId}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
+                  <Link to={`/releases/${release.id}/room?track=${item.trackId}&render=${item.renderId}`} className="font-medium text-accent-deep underline-offset-4 hover:underline">
                     Listen and review
                   </Link>
                 </p>
@@ -139,6 +182,15 @@ export default function Release({ loaderData }: Route.ComponentProps) {
           </ol>
         )}
       </section>
+      {staff && album && (
+        <section aria-labelledby="album" className="mt-8">
+          <h2 id="album" className="mb-2 text-lg font-semibold">
+            Album
+          </h2>
+          <AlbumView album={album} gapForm={{ busy, error: actionData?.intent === "gap" ? actionData.error : null }} />
+        </section>
+      )}
+      {staff && <ReferenceSection releaseId={release.id} references={references} uploadLimit={uploadLimit} busy={busy} />}
       <ReleaseBillingSection releaseId={release.id} billing={billing} />
     </>
   );

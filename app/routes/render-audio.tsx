@@ -5,7 +5,7 @@
 import type { Route } from "./+types/render-audio";
 import { requireUser } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
-import { serveStored } from "../lib/http-range.server.ts";
+import { serveRenderAudio } from "../lib/render-audio.server.ts";
 import { getRenderForViewer } from "../models/review.server.ts";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -13,5 +13,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   // Stricter than the download route: a client hears only renders sent for review.
   const render = await getRenderForViewer(user, params.renderId);
   if (!render) throw notFound();
-  return serveStored(request, render.outputKey, { fileName: `render-${render.id}.wav`, contentType: "audio/wav", disposition: "inline" });
+  // A print of an unpaid release reaches a client only as a stretch (render-visibility).
+  return serveRenderAudio(request, user, render, render.releaseId, { fileName: `render-${render.id}.wav` });
 }

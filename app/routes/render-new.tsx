@@ -7,7 +7,9 @@ import { STAFF } from "../lib/roles.ts";
 import { formValues, parseForm } from "../lib/forms.ts";
 import { requireTrackAccess } from "../lib/render-access.server.ts";
 import { listChainChoices } from "../lib/render-views.server.ts";
+import { getRevision } from "../models/chain.server.ts";
 import { listMixVersions } from "../models/mix.server.ts";
+import { printRefusal } from "../../dsp/chain/print-check.ts";
 import { createRender } from "../models/render.server.ts";
 import { renderNewSchema } from "../schemas/render-new.ts";
 import { BackLink, PageHeader } from "../components/page-header.tsx";
@@ -38,6 +40,10 @@ export async function action({ request, params }: Route.ActionArgs) {
   const errors: Record<string, string> = {};
   if (!mix) errors.mixId = "Choose one of this track's mix versions";
   if (!chains.some((c) => c.revisionId === input.chainRevisionId)) errors.chainRevisionId = "Choose one of the chains listed";
+  else if (input.kind === "print") {
+    const refusal = printRefusal((await getRevision(input.chainRevisionId))?.params);
+    if (refusal) errors.chainRevisionId = refusal;
+  }
   const region = input.kind === "preview" && input.region === "range" ? { startS: input.startS!, endS: input.endS! } : null;
   if (mix && region && region.startS >= mix.durationSeconds) errors.startS = `The mix is ${mix.durationSeconds.toFixed(1)} s long`;
   if (Object.keys(errors).length > 0) return data({ errors, values: formValues(form) }, { status: 400 });

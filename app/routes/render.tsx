@@ -2,7 +2,8 @@
 // queued or running), then input beside output analyses, the gain-reduction
 // traces, a player and the downloads.
 import { useEffect } from "react";
-import { Form, Link, useFetcher, useRevalidator } from "react-router";
+import { Form, Link, redirect, useFetcher, useRevalidator } from "react-router";
+import { roomPath } from "../lib/review/room-path.ts";
 import type { Route } from "./+types/render";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { requireTrackRender } from "../lib/render-access.server.ts";
@@ -11,8 +12,9 @@ import { FINALS_LOCKED_MESSAGE } from "../lib/billing/finals.ts";
 import { describeRevision } from "../lib/render-views.server.ts";
 import { readChartTraces } from "../lib/render-traces.server.ts";
 import { cancelRender } from "../models/render.server.ts";
-import { publicAppUrl } from "../lib/billing/links.ts";
-import { ReviewActionError, ReviewForbiddenError, sendForReview } from "../models/review.server.ts";
+import { ReviewActionError, ReviewForbiddenError, sendForReview, sendWarning } from "../models/review.server.ts";
+import { reviewRoomLink } from "../lib/review/page-action.server.ts";
+import { SendForReviewForm } from "../components/review/send-form.tsx";
 import { BackLink, PageHeader } from "../components/page-header.tsx";
 import { RenderProgress } from "../components/render/progress-bar.tsx";
 import { AnalysesTable } from "../components/render/analyses-table.tsx";
@@ -22,10 +24,13 @@ import { MonitoringReminder } from "../components/player/monitoring-notice.tsx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release, track, render, mix } = await requireTrackRender(request, params);
-  const [chain, traces, downloadOpen] = await Promise.all([
+  // A client hears a sent render in the review room: no mix names, chains or gain-reduction charts.
+  if (!isStaff(user.role)) throw redirect(roomPath(release.id, track.id, render.id));
+  const [chain, traces, downloadOpen, warning] = await Promise.all([
     describeRevision(render.chainRevisionId),
     render.state === "done" ? readChartTraces(render.tracesKey, render.region?.startS ?? 0) : null,
     mayDownloadRender(user, render, release.id),
+    render.state === "done" ? sendWarning(render.id) : null,
   ]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
@@ -46,6 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     },
     traces,
     downloadOpen,
+    sendWarning: warning,
     staff: isStaff(user.role),
   };
 }
@@ -54,9 +60,9 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { user, release, track, render } = await requireTrackRender(request, params, STAFF);
   const form = await request.formData();
   if (form.get("intent") === "send") {
-    const link = `${publicAppUrl()}/releases/${release.id}/tracks/${track.id}/review?render=${render.id}`;
+    const link = reviewRoomLink(release.id, track.id, render.id);
     try {
-      await sendForReview({ renderId: render.id, senderId: user.id, message: String(form.get("message") ?? "").slice(0, 4000), link });
+      await sendForReview({ renderId: render.id, senderId: user.id, message: String(form.get("message") ?? "").slice(0, 4000), link, confirmNewReview: form.get("confirmNewReview") === "yes" });
       return { sent: true as const };
     } catch (error) {
       if (error instanceof ReviewForbiddenError) throw new Response("Not Found", { status: 404 });
@@ -165,7 +171,7 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
             <div className="mt-3 space-y-2">
               <MonitoringReminder />
               {/* biome-ignore lint/a11y/useMediaCaption: a master has no words to caption */}
-              <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full" />
+              <audio controls preload="metadata" src={`${here}/download?inline=1`} className="w-full max-w-full" />
               <p className="text-sm">
                 {downloadOpen ? (
                   <a href={`${here}/download`} download className="btn-primary inline-block">
@@ -189,15 +195,8 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
               <h2 id="send" className="text-lg font-semibold">
                 Send for review
               </h2>
-              <Form method="post" className="card mt-3 space-y-2 p-4">
-                <input type="hidden" name="intent" value="send" />
-                <label className="block text-sm">
-                  Message to {release.clientName ?? "the client"} (optional)
-                  <textarea name="message" rows={3} maxLength={4000} className="field-input mt-1" />
-                </label>
-                <button type="submit" className="btn-primary">
-                  Send for review
-                </button>
+              <div className="card mt-3 p-4">
+              <SendForReviewForm clientName={release.clientName} warning={loaderData.sendWarning}>
                 {actionData && "sent" in actionData && (
                   <p role="status" className="text-sm text-accent-deep">
                     Sent. The client has been e-mailed a link to listen.
@@ -208,7 +207,8 @@ export default function RenderPage({ loaderData, actionData }: Route.ComponentPr
                     {String(actionData.sendError)}
                   </p>
                 )}
-              </Form>
+              </SendForReviewForm>
+              </div>
             </section>
           )}
           <section aria-labelledby="analyses" className="mt-8">

@@ -1,7 +1,9 @@
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/settings";
 import { z } from "zod";
-import { requireRole, requireUser } from "../lib/auth.server.ts";
+import { currentSession, requireRole, requireUser } from "../lib/auth.server.ts";
+import { changePassword } from "../models/user.server.ts";
+import { passwordChangeSchema } from "../schemas/password.ts";
 import { parseForm } from "../lib/forms.ts";
 import { renameStudio } from "../models/studio.server.ts";
 import { updateUserName } from "../models/user.server.ts";
@@ -16,10 +18,21 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
+  // Who is asking is settled before the body is read.
+  const signedIn = await requireUser(request);
   const form = await request.formData();
   const intent = String(form.get("intent") ?? "");
+  if (intent === "password") {
+    const parsed = parseForm(passwordChangeSchema, form);
+    if (!parsed.ok) return data({ intent, errors: parsed.errors, values: {} as Record<string, string>, saved: false }, { status: 400 });
+    const session = await currentSession(request);
+    // Every other session of this user ends (other browsers, other studios); this one stays.
+    const changed = await changePassword(signedIn.id, parsed.data.current, parsed.data.password, session?.idHash);
+    if (!changed) return data({ intent, errors: { current: "That is not your current password" } as Record<string, string>, values: {} as Record<string, string>, saved: false }, { status: 400 });
+    return { intent, errors: {} as Record<string, string>, values: {} as Record<string, string>, saved: true };
+  }
   // Renaming the studio is the owner's; anyone may rename themselves.
-  const user = intent === "studio" ? await requireRole(request, ["owner"]) : await requireUser(request);
+  const user = intent === "studio" ? await requireRole(request, ["owner"]) : signedIn;
   const result = parseForm(nameSchema, form);
   if (!result.ok) return data({ intent, errors: result.errors, values: result.values, saved: false }, { status: 400 });
   if (intent === "studio") await renameStudio(user.studioId, result.data.name);
@@ -30,6 +43,7 @@ export async function action({ request }: Route.ActionArgs) {
 export default function Settings({ loaderData, actionData }: Route.ComponentProps) {
   const mine = actionData?.intent === "profile" ? actionData : undefined;
   const studio = actionData?.intent === "studio" ? actionData : undefined;
+  const password = actionData?.intent === "password" ? actionData : undefined;
   return (
     <>
       <PageHeader title="Settings" />
@@ -44,6 +58,18 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
           </p>
           <button type="submit" className="btn-quiet">
             Save
+          </button>
+        </Form>
+        <Form method="post" className="card space-y-4 p-5" noValidate key={password?.saved ? "saved" : "form"}>
+          <h2 className="text-lg font-semibold">Password</h2>
+          <input type="hidden" name="intent" value="password" />
+          <FormNotice message={password?.saved ? "Password changed. You are signed out everywhere else." : undefined} tone="info" />
+          <TextField label="Current password" name="current" type="password" autoComplete="current-password" error={password?.errors.current} />
+          <TextField label="New password" name="password" type="password" autoComplete="new-password" error={password?.errors.password} />
+          <TextField label="New password again" name="confirm" type="password" autoComplete="new-password" error={password?.errors.confirm} />
+          <p className="text-sm text-ink-soft">Changing it signs you out of every other browser and device.</p>
+          <button type="submit" className="btn-quiet">
+            Change password
           </button>
         </Form>
         {loaderData.owner && (

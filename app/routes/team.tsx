@@ -5,8 +5,8 @@ import { parseForm, type FieldErrors } from "../lib/forms.ts";
 import { clientInStudio, clientNameTaken, createClient, listClients } from "../models/client.server.ts";
 import { publicAppUrl } from "../lib/billing/links.ts";
 import { createInvitation, emailHasAccount, invitationLink, listPendingInvitations } from "../models/invitation.server.ts";
-import { changeStaffRole, listMembers } from "../models/team.server.ts";
-import { clientSchema, INVITATION_DAYS, invitationSchema, roleChangeSchema } from "../schemas/team.ts";
+import { changeStaffRole, listMembers, removeMember, revokeMemberTokens } from "../models/team.server.ts";
+import { clientSchema, INVITATION_DAYS, invitationSchema, memberSchema, roleChangeSchema } from "../schemas/team.ts";
 import { FormNotice, SelectField, TextField } from "../components/field.tsx";
 import { PageHeader } from "../components/page-header.tsx";
 import { DataTable } from "../components/data-table.tsx";
@@ -42,6 +42,18 @@ export async function action({ request }: Route.ActionArgs) {
     if (!changed.ok) return fail({ errors: {}, values: {}, message: changed.message });
     return data<ActionResult>({ intent, errors: {}, values: {}, message: "Role changed." });
   }
+  if (intent === "remove" || intent === "revoke-tokens") {
+    const result = parseForm(memberSchema, form);
+    if (!result.ok) return fail({ errors: result.errors, values: result.values, message: "No such member" });
+    if (intent === "revoke-tokens") {
+      const count = await revokeMemberTokens(user.studioId, result.data.membershipId);
+      if (count === undefined) return fail({ errors: {}, values: {}, message: "No such member" });
+      return data<ActionResult>({ intent, errors: {}, values: {}, message: count === 1 ? "1 API token revoked." : `${count} API tokens revoked.` });
+    }
+    const removed = await removeMember(user.studioId, result.data.membershipId, user.id);
+    if (!removed.ok) return fail({ errors: {}, values: {}, message: removed.message });
+    return data<ActionResult>({ intent, errors: {}, values: {}, message: `${removed.name} removed; their sessions and API tokens here have ended.` });
+  }
   if (intent === "client") {
     const result = parseForm(clientSchema, form);
     if (!result.ok) return fail({ errors: result.errors, values: result.values });
@@ -60,6 +72,7 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
   const invite = result?.intent === "invite" ? result : undefined;
   const client = result?.intent === "client" ? result : undefined;
   const role = result?.intent === "role" ? result : undefined;
+  const manage = result?.intent === "remove" || result?.intent === "revoke-tokens" ? result : undefined;
   return (
     <>
       <PageHeader
@@ -81,7 +94,12 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
             <FormNotice message={role.message} tone={Object.keys(role.errors).length === 0 && role.message === "Role changed." ? "info" : "danger"} />
           </div>
         )}
-        <DataTable label="Members" columns={[{ label: "Name" }, { label: "E-mail", className: "hidden sm:table-cell" }, { label: "Role" }]}>
+        {manage?.message && (
+          <div className="mb-3">
+            <FormNotice message={manage.message} tone={Object.keys(manage.errors).length === 0 && !manage.message.startsWith("No such") && !manage.message.startsWith("You cannot") && !manage.message.startsWith("The studio") ? "info" : "danger"} />
+          </div>
+        )}
+        <DataTable label="Members" columns={[{ label: "Name" }, { label: "E-mail", className: "hidden sm:table-cell" }, { label: "Role" }, { label: "Access" }]}>
           {members.map((member) => (
             <tr key={member.membershipId}>
               <td>
@@ -105,6 +123,33 @@ export default function Team({ loaderData, actionData }: Route.ComponentProps) {
                     </button>
                     {member.userId === me && <span className="text-xs text-ink-faint">(you)</span>}
                   </Form>
+                )}
+              </td>
+              <td>
+                {member.userId !== me && (
+                  <div className="flex flex-wrap items-center gap-2">
+                    {member.liveTokens > 0 && (
+                      <Form method="post">
+                        <input type="hidden" name="intent" value="revoke-tokens" />
+                        <input type="hidden" name="membershipId" value={member.membershipId} />
+                        <button type="submit" className="btn-quiet px-3" aria-label={`Revoke the API tokens of ${member.name}`}>
+                          Revoke {member.liveTokens === 1 ? "1 token" : `${member.liveTokens} tokens`}
+                        </button>
+                      </Form>
+                    )}
+                    <Form
+                      method="post"
+                      onSubmit={(event) => {
+                        if (!window.confirm(`Remove ${member.name} from the studio? Their sessions and API tokens end at once.`)) event.preventDefault();
+                      }}
+                    >
+                      <input type="hidden" name="intent" value="remove" />
+                      <input type="hidden" name="membershipId" value={member.membershipId} />
+                      <button type="submit" className="btn-quiet px-3 text-danger" aria-label={`Remove ${member.name}`}>
+                        Remove
+                      </button>
+                    </Form>
+                  </div>
                 )}
               </td>
             </tr>

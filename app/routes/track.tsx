@@ -5,8 +5,10 @@ import { requireReleaseAccess } from "../lib/auth.server.ts";
 import { notFound } from "../lib/http.server.ts";
 import { isStaff, STAFF } from "../lib/roles.ts";
 import { getTrack } from "../models/track.server.ts";
+import { roomPath } from "../lib/review/room-path.ts";
 import { listMixVersions } from "../models/mix.server.ts";
 import { listTrackRenders } from "../lib/render-views.server.ts";
+import { listTrackChainsWithRevision } from "../lib/chain-access.server.ts";
 import { formatBytes, receiveMixUpload, UploadError, uploadMaxBytes } from "../lib/upload.server.ts";
 import { MultipartError, parseMultipartFiles } from "../lib/multipart-files.server.ts";
 import { formatIsrc } from "../schemas/track.ts";
@@ -19,11 +21,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, release } = await requireReleaseAccess(request, params.releaseId);
   const track = await getTrack(release.id, params.trackId);
   if (!track) throw notFound();
-  const [mixes, renders] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user)]);
+  // A client hears and reviews in the review room; this page (mixes, renders, chains) is the studio's.
+  if (!isStaff(user.role)) throw redirect(roomPath(release.id, track.id));
+  const staff = true;
+  const [mixes, renders, chains] = await Promise.all([listMixVersions(track.id), listTrackRenders(track.id, user), listTrackChainsWithRevision(track.id)]);
   return {
     release: { id: release.id, title: release.title, clientName: release.clientName },
     track,
-    staff: isStaff(user.role),
+    staff,
+    chains: chains.map((c) => ({ id: c.id, name: c.name, revision: c.revision, updatedAt: c.updatedAt.toISOString() })),
     mixes: mixes.map((m) => ({
       id: m.id,
       version: m.version,
@@ -63,7 +69,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function Track({ loaderData, actionData }: Route.ComponentProps) {
-  const { release, track, staff, mixes, renders, uploadLimit } = loaderData;
+  const { release, track, staff, mixes, renders, chains, uploadLimit } = loaderData;
   const base = `/releases/${release.id}/tracks/${track.id}`;
   const working = mixes.some((m) => m.analysisState === "pending" || m.analysisState === "running") || renders.some((r) => r.state === "queued" || r.state === "running");
   const revalidator = useRevalidator();
@@ -119,6 +125,33 @@ export default function Track({ loaderData, actionData }: Route.ComponentProps) 
         )}
         {staff && <MixUploadForm uploadUrl={`${base}/mixes`} maxBytesLabel={uploadLimit} error={actionData?.error} />}
       </section>
+      {staff && (
+        <section aria-labelledby="chains" className="mt-8">
+          <h2 id="chains" className="text-lg font-semibold">
+            Chains
+          </h2>
+          {chains.length === 0 ? (
+            <p className="mt-2 text-sm text-ink-soft">No chain for this track yet: start one from a template.</p>
+          ) : (
+            <ul className="card mt-2 max-w-2xl divide-y divide-rule text-sm" aria-label="Chains of this track">
+              {chains.map((c) => (
+                <li key={c.id} className="flex flex-wrap items-center justify-between gap-2 px-4 py-3">
+                  <span>
+                    <span className="font-medium">{c.name}</span>
+                    <span className="text-ink-soft">
+                      {" "}
+                      · revision <span className="num">{c.revision}</span> · {c.updatedAt.slice(0, 10)}
+                    </span>
+                  </span>
+                  <Link to={`/chains/${c.id}`} className="btn-primary" aria-label={`Open ${c.name} at the desk`}>
+                    Open at the desk
+                  </Link>
+                </li>
+              ))}
+            </ul>
+          )}
+        </section>
+      )}
       <section aria-labelledby="renders" className="mt-8">
         <div className="flex flex-wrap items-center justify-between gap-3">
           <h2 id="renders" className="text-lg font-semibold">

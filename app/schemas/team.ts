@@ -35,3 +35,5 @@ export const clientSchema = z.object({
   name: z.string().trim().min(1, "Enter the client's name").max(120, "At most 120 characters"),
   kind: z.enum(["artist", "label"], { error: "Choose artist or label" }),
 });
+
+export const memberSchema = z.object({ membershipId: z.uuid({ error: "No such member" }) });

@@ -6,9 +6,11 @@
 import { Compressor } from "../dynamics/compressor.ts";
 import { MultibandCompressor } from "../dynamics/multiband.ts";
 import { Limiter } from "../limit/limiter.ts";
-import { TruePeakDetector } from "../loudness/true-peak.ts";
+import { CeilingPeakDetector } from "../limit/ceiling-detector.ts";
 import type { GainReductionSource, Processor } from "../processor.ts";
+import { ResonanceTamer } from "../resonance/resonance.ts";
 import { Saturator } from "../saturate/saturator.ts";
+import { TapeStage } from "../tape/tape.ts";
 import { EqStage } from "./eq-stage.ts";
 import type { Chain, Stage } from "./schema.ts";
 import { TrimStage } from "./trim-stage.ts";
@@ -46,6 +48,18 @@ export function buildChain(chain: Chain, sampleRate: number, channels: number, m
       case "saturate":
         processor = new Saturator(sampleRate, channels, stage, maxBlockFrames);
         break;
+      case "resonance": {
+        const r = new ResonanceTamer(sampleRate, channels, stage, maxBlockFrames);
+        processor = r;
+        gr = r;
+        break;
+      }
+      case "tape": {
+        const t = new TapeStage(sampleRate, channels, stage, maxBlockFrames);
+        processor = t;
+        gr = t;
+        break;
+      }
       case "compress": {
         const c = new Compressor(sampleRate, channels, stage, maxBlockFrames);
         processor = c;
@@ -62,7 +76,7 @@ export function buildChain(chain: Chain, sampleRate: number, channels: number, m
         break;
       }
       case "limit": {
-        const detector = stage.truePeak ? new TruePeakDetector(sampleRate, channels, maxBlockFrames) : null;
+        const detector = stage.truePeak ? new CeilingPeakDetector(sampleRate, channels, maxBlockFrames) : null;
         const settings = index === lastLimit ? { ...stage, inputGainDb: stage.inputGainDb + extraGainDb } : stage;
         const l = new Limiter(sampleRate, channels, settings, maxBlockFrames, detector);
         processor = l;

@@ -31,6 +31,19 @@ export class EqStage implements Processor {
     }
   }
 
+  /**
+   * Live change of the bands' frequency, gain and Q (the listening desk),
+   * keeping the filter state. The band list, shapes and channels are the
+   * constructor's (a change of those needs a new stage).
+   */
+  setBands(sampleRate: number, bands: EqBand[]): void {
+    let r = 0;
+    for (const band of bands) {
+      if (this.channels === 1 && (band.channel === "side" || band.channel === "right")) continue;
+      this.runners[r++].filter.setCoeffs(designBiquad(band.shape, { freqHz: band.freqHz, q: band.q, gainDb: band.gainDb }, sampleRate));
+    }
+  }
+
   reset(): void {
     for (const r of this.runners) r.filter.reset();
   }

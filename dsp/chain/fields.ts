@@ -39,6 +39,25 @@ export const SATURATE_FIELDS = {
   blend: { min: 0, max: 1, step: 0.01, unit: "", default: 0.5, label: "Blend" },
 } as const satisfies Record<string, FieldRange>;
 
+export const RESONANCE_FIELDS = {
+  lowHz: { min: 100, max: 16000, step: 1, unit: "Hz", default: 1000, label: "Focus from" },
+  highHz: { min: 500, max: 20000, step: 1, unit: "Hz", default: 8000, label: "Focus to" },
+  thresholdDb: { min: 0, max: 24, step: 0.5, unit: "dB", default: 6, label: "Peak threshold" },
+  maxCutDb: { min: 0, max: 24, step: 0.5, unit: "dB", default: 4, label: "Deepest cut" },
+  attackMs: { min: 1, max: 300, step: 1, unit: "ms", default: 20, label: "Attack" },
+  releaseMs: { min: 10, max: 3000, step: 1, unit: "ms", default: 150, label: "Release" },
+  blend: { min: 0, max: 1, step: 0.01, unit: "", default: 1, label: "Blend" },
+} as const satisfies Record<string, FieldRange>;
+
+export const TAPE_FIELDS = {
+  driveDb: { min: 0, max: 24, step: 0.5, unit: "dB", default: 4, label: "Drive" },
+  bumpHz: { min: 30, max: 200, step: 1, unit: "Hz", default: 70, label: "Bump frequency" },
+  bumpDb: { min: 0, max: 6, step: 0.1, unit: "dB", default: 1.5, label: "Bump" },
+  /** Besides a number, null (no high-frequency loss). */
+  rolloffHz: { min: 8000, max: 22000, step: 10, unit: "Hz", default: 18000, label: "High-frequency loss" },
+  blend: { min: 0, max: 1, step: 0.01, unit: "", default: 1, label: "Blend" },
+} as const satisfies Record<string, FieldRange>;
+
 export const MULTIBAND_FIELDS = {
   crossoverHz: { min: 20, max: 20000, step: 1, unit: "Hz", label: "Crossover" },
 } as const satisfies Record<string, FieldRange>;
@@ -57,7 +76,8 @@ export const OUTPUT_FIELDS = {
 export const EQ_SHAPES = ["peak", "lowShelf", "highShelf", "highPass", "lowPass", "notch"] as const;
 export const EQ_CHANNELS = ["stereo", "mid", "side", "left", "right"] as const;
 export const OVERSAMPLE_FACTORS = [2, 4] as const;
+export const RESONANCE_LISTEN = ["output", "removed"] as const;
 export const BIT_DEPTHS = [16, 24, "32f"] as const;
 export const DITHERS = ["tpdf", "none"] as const;
-export const STAGE_TYPES = ["trim", "eq", "saturate", "compress", "multiband", "limit"] as const;
+export const STAGE_TYPES = ["trim", "eq", "saturate", "resonance", "tape", "compress", "multiband", "limit"] as const;
 export const MAX_CROSSOVERS = 4;

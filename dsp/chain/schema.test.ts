@@ -56,7 +56,7 @@ describe("chain schema", () => {
         "stages[2] (compress): unknown field extra",
         "stages[3] (multiband).crossoversHz[1]: crossovers must be in ascending order",
         "stages[3] (multiband).bands: 2 crossovers need 3 bands, got 1",
-        'stages[4] (spin).type: must be one of "trim", "eq", "saturate", "compress", "multiband", "limit"',
+        'stages[4] (spin).type: must be one of "trim", "eq", "saturate", "resonance", "tape", "compress", "multiband", "limit"',
         "stages[5] (limit).ceilingDbtp: must be at most 0",
         'output.bitDepth: must be one of 16, 24, "32f"',
         'output.dither: must be one of "tpdf", "none"',

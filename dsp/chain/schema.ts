@@ -16,7 +16,10 @@ import {
   MAX_CROSSOVERS,
   MULTIBAND_FIELDS,
   OUTPUT_FIELDS,
+  RESONANCE_FIELDS,
+  RESONANCE_LISTEN,
   SATURATE_FIELDS,
+  TAPE_FIELDS,
   TRIM_FIELDS,
   type FieldRange,
 } from "./fields.ts";
@@ -73,6 +76,39 @@ export const saturateStageSchema = z.strictObject({
   oversample: z.union([z.literal(2), z.literal(4)], { error: "must be 2 or 4" }).default(4),
 });
 
+export const resonanceStageSchema = z
+  .strictObject({
+    type: z.literal("resonance"),
+    bypass,
+    lowHz: num(RESONANCE_FIELDS.lowHz),
+    highHz: num(RESONANCE_FIELDS.highHz),
+    thresholdDb: num(RESONANCE_FIELDS.thresholdDb),
+    maxCutDb: num(RESONANCE_FIELDS.maxCutDb),
+    attackMs: num(RESONANCE_FIELDS.attackMs),
+    releaseMs: num(RESONANCE_FIELDS.releaseMs),
+    blend: num(RESONANCE_FIELDS.blend),
+    /** "removed": only what the stage takes away (previews and the desk; a print refuses it, see print-check.ts). */
+    listen: choice(RESONANCE_LISTEN).default("output"),
+  })
+  .superRefine((stage, ctx) => {
+    if (!(stage.highHz > stage.lowHz)) ctx.addIssue({ code: "custom", path: ["highHz"], message: `must be above the focus's lower limit (${stage.lowHz} Hz)` });
+  });
+
+export const tapeStageSchema = z.strictObject({
+  type: z.literal("tape"),
+  bypass,
+  driveDb: num(TAPE_FIELDS.driveDb),
+  bumpHz: num(TAPE_FIELDS.bumpHz),
+  bumpDb: num(TAPE_FIELDS.bumpDb),
+  rolloffHz: z
+    .union([z.null(), num({ ...TAPE_FIELDS.rolloffHz, default: undefined })], {
+      error: `must be null (no loss) or a number of Hz from ${TAPE_FIELDS.rolloffHz.min} to ${TAPE_FIELDS.rolloffHz.max}`,
+    })
+    .default(TAPE_FIELDS.rolloffHz.default),
+  blend: num(TAPE_FIELDS.blend),
+  oversample: z.union([z.literal(2), z.literal(4)], { error: "must be 2 or 4" }).default(4),
+});
+
 export const compressStageSchema = z.strictObject({ type: z.literal("compress"), bypass, ...compressFields });
 
 export const multibandBandSchema = z.strictObject({
@@ -116,8 +152,8 @@ export const limitStageSchema = z.strictObject({
   truePeak: z.boolean({ error: "must be true or false" }).default(true),
 });
 
-export const stageSchema = z.discriminatedUnion("type", [trimStageSchema, eqStageSchema, saturateStageSchema, compressStageSchema, multibandStageSchema, limitStageSchema], {
-  error: 'must be one of "trim", "eq", "saturate", "compress", "multiband", "limit"',
+export const stageSchema = z.discriminatedUnion("type", [trimStageSchema, eqStageSchema, saturateStageSchema, resonanceStageSchema, tapeStageSchema, compressStageSchema, multibandStageSchema, limitStageSchema], {
+  error: 'must be one of "trim", "eq", "saturate", "resonance", "tape", "compress", "multiband", "limit"',
 });
 
 export const outputSettingsSchema = z.strictObject({
@@ -139,6 +175,8 @@ export type TrimStage = z.output<typeof trimStageSchema>;
 export type EqStage = z.output<typeof eqStageSchema>;
 export type EqBand = z.output<typeof eqBandSchema>;
 export type SaturateStage = z.output<typeof saturateStageSchema>;
+export type ResonanceStage = z.output<typeof resonanceStageSchema>;
+export type TapeStage = z.output<typeof tapeStageSchema>;
 export type CompressStage = z.output<typeof compressStageSchema>;
 export type MultibandStage = z.output<typeof multibandStageSchema>;
 export type MultibandBand = z.output<typeof multibandBandSchema>;

@@ -67,13 +67,19 @@ describe.skipIf(!hasSox)("analyze on sox-made files", () => {
       const r = JSON.parse(stdout);
       expect(Object.keys(r).sort()).toEqual([
         "bitDepth", "channels", "correlation", "durationS", "format", "integratedLufs", "loudnessRangeLu",
-        "maxMomentaryLufs", "maxShortTermLufs", "samplePeakDbfs", "sampleRate", "truePeakDbtp",
+        "maxMomentaryLufs", "maxShortTermLufs", "reconstructedPeakDb", "samplePeakDbfs", "sampleRate", "thirdOctave", "truePeakDbtp",
       ].sort());
+      // Third-octave spectrum (IEC 61260-1 bands, dB re a full-scale sine per AES17): the sine's own band reads −20.0.
+      expect(r.thirdOctave).toHaveLength(30);
+      expect(r.thirdOctave[16]).toEqual({ centreHz: 1000, levelDb: expect.any(Number) });
+      expect(Math.abs(r.thirdOctave[16].levelDb + 20)).toBeLessThanOrEqual(0.2);
+      expect(r.thirdOctave[14].levelDb).toBeLessThan(-45);
       expect(r).toMatchObject({ sampleRate: want.rate, channels: want.ch, bitDepth: want.bits, format: want.fmt, durationS: 6, correlation: 1 });
       expect(Math.abs(r.integratedLufs - want.lufs)).toBeLessThanOrEqual(0.1);
       // sox dithers/rounds when it writes, and the report rounds to 0.01 dB.
       expect(Math.abs(r.samplePeakDbfs + 20)).toBeLessThanOrEqual(0.02);
       expect(Math.abs(r.truePeakDbtp + 20)).toBeLessThanOrEqual(0.05);
+      expect(Math.abs(r.reconstructedPeakDb + 20)).toBeLessThanOrEqual(0.05);
       expect(r.loudnessRangeLu).toBeLessThan(0.1);
     });
   }

@@ -1,6 +1,7 @@
 // `tidemark analyze FILE.wav`: prints one JSON object with the file's
-// loudness, peaks, correlation and format. Silent levels (−Infinity) print as
-// null with a note. Errors go to stderr with exit code 2.
+// loudness, peaks, correlation, format and third-octave spectrum. Silent
+// levels (−Infinity) print as null with a note. Errors go to stderr with
+// exit code 2.
 
 import { analyzeFile, type FileAnalysis } from "../analysis.ts";
 import { probeWav, WavFormatError } from "../io/wav-reader.ts";
@@ -12,6 +13,7 @@ export interface AnalyzeReport {
   integratedLufs: number | null;
   loudnessRangeLu: number;
   truePeakDbtp: number | null;
+  reconstructedPeakDb: number | null;
   samplePeakDbfs: number | null;
   maxMomentaryLufs: number | null;
   maxShortTermLufs: number | null;
@@ -21,6 +23,8 @@ export interface AnalyzeReport {
   channels: number;
   bitDepth: number;
   format: string;
+  /** Long-term third-octave levels, dB re a full-scale sine (null: silent or above Nyquist). */
+  thirdOctave: Array<{ centreHz: number; levelDb: number | null }>;
   notes?: string[];
 }
 
@@ -37,6 +41,7 @@ export function toReport(a: FileAnalysis): AnalyzeReport {
     integratedLufs: level(a.integratedLufs, "integratedLufs"),
     loudnessRangeLu: round(a.loudnessRangeLu, 2),
     truePeakDbtp: level(a.truePeakDbtp, "truePeakDbtp"),
+    reconstructedPeakDb: level(a.reconstructedPeakDb, "reconstructedPeakDb"),
     samplePeakDbfs: level(a.samplePeakDbfs, "samplePeakDbfs"),
     maxMomentaryLufs: level(a.maxMomentaryLufs, "maxMomentaryLufs"),
     maxShortTermLufs: level(a.maxShortTermLufs, "maxShortTermLufs"),
@@ -46,6 +51,7 @@ export function toReport(a: FileAnalysis): AnalyzeReport {
     channels: a.channels,
     bitDepth: a.bitDepth,
     format: a.format,
+    thirdOctave: (a.thirdOctave ?? []).map((b) => ({ centreHz: b.centreHz, levelDb: Number.isFinite(b.levelDb) ? round(b.levelDb, 1) : null })),
   };
   if (a.channels === 2 && a.samplePeakDbfs === -Infinity) notes.push("correlation is undefined for silence; reported as 0");
   if (a.durationS < 0.4) notes.push("shorter than one 400 ms gating block: no integrated loudness");

@@ -18,6 +18,7 @@ commands:
 
 export async function main(argv: string[]): Promise<number> {
   const [name, ...rest] = argv;
+  // `tidemark --help` exits 0; `tidemark` alone prints the usage and exits 1.
   if (!name || name === "--help" || name === "-h" || name === "help") {
     process.stdout.write(USAGE);
     return name ? 0 : 1;

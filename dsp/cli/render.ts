@@ -65,6 +65,10 @@ function printable(a: RenderAnalysis): Record<string, unknown> {
 }
 
 export async function runRender(argv: string[]): Promise<number> {
+  if (argv.includes("--help") || argv.includes("-h")) {
+    process.stdout.write(`${RENDER_USAGE}\n`);
+    return 0;
+  }
   let args: RenderArgs;
   try {
     args = parseArgs(argv);

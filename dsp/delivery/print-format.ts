@@ -23,7 +23,7 @@ import { openWav, probeWav, type WavFormat } from "../io/wav-reader.ts";
 import { createWavWriter } from "../io/wav-writer.ts";
 import { Limiter } from "../limit/limiter.ts";
 import { LoudnessMeter, type LoudnessAnalysis } from "../loudness/meter.ts";
-import { TruePeakDetector } from "../loudness/true-peak.ts";
+import { CeilingPeakDetector } from "../limit/ceiling-detector.ts";
 import { Quantizer } from "../output/quantizer.ts";
 import type { Planar } from "../processor.ts";
 import { emptyBext, type Bext, type BextLoudness } from "./bext.ts";
@@ -130,7 +130,7 @@ async function printPass(
   const limiter = new Limiter(
     format.sampleRate, channels,
     { inputGainDb: gainDb, ceilingDbtp: format.ceilingDbtp, lookaheadMs: limiterSettings.lookaheadMs, releaseMs: limiterSettings.releaseMs, truePeak: true },
-    maxBlock, new TruePeakDetector(format.sampleRate, channels, maxBlock),
+    maxBlock, new CeilingPeakDetector(format.sampleRate, channels, maxBlock),
   );
   const quantizer = new Quantizer(channels, format.bitDepth, dither);
   const writer = await createWavWriter(tmpPath, {

@@ -67,6 +67,16 @@ export function controlFramesFor(settings: CompressorSettings, sampleRate: numbe
   return settings.attackMs >= CONTROL_MIN_TIME_MS && release >= CONTROL_MIN_TIME_MS ? controlFrames(sampleRate) : 1;
 }
 
+/** Whether `next` can be applied to a compressor built with `built` by setSettings (else it needs a new one). */
+export function compressorLiveChangeable(built: CompressorSettings, next: CompressorSettings, sampleRate: number): boolean {
+  return (
+    built.rmsWindowMs === next.rmsWindowMs &&
+    (built.sidechainHighPassHz ?? null) === (next.sidechainHighPassHz ?? null) &&
+    (built.releaseMs === "auto") === (next.releaseMs === "auto") &&
+    controlFramesFor(built, sampleRate) === controlFramesFor(next, sampleRate)
+  );
+}
+
 export class Compressor implements Processor, GainReductionSource {
   readonly latencyFrames = 0;
   readonly traceNames: readonly string[] = ["gr"];
@@ -78,12 +88,12 @@ export class Compressor implements Processor, GainReductionSource {
   private readonly smoother: GainSmoother;
   private readonly power: Float64Array;
   private readonly gainBuffer: Float64Array;
-  private readonly threshold: number;
-  private readonly slope: number;
-  private readonly knee: number;
-  private readonly makeupDb: number;
-  private readonly makeupGain: number;
-  private readonly kneeStartPower: number;
+  private threshold: number;
+  private slope: number;
+  private knee: number;
+  private makeupDb: number;
+  private makeupGain: number;
+  private kneeStartPower: number;
   private maxReductionDb = 0;
   /** Frames per control step (1: the per-frame path). */
   readonly controlFrames: number;
@@ -126,6 +136,23 @@ export class Compressor implements Processor, GainReductionSource {
     // A block whose power stays at or below this has no reduction at all.
     this.kneeStartPower = 10 ** ((this.threshold - this.knee / 2) / 10);
     this.prevGain = this.curGain = this.makeupGain;
+  }
+
+  /**
+   * Live settings change (the listening desk): threshold, ratio, knee,
+   * makeup, attack and release, keeping the detector and envelope state.
+   * What the constructor fixes (the detector's window and side-chain
+   * filter, fixed or "auto" release, the gain path of controlFramesFor)
+   * needs a new compressor: see `compressorLiveChangeable`.
+   */
+  setSettings(sampleRate: number, settings: CompressorSettings): void {
+    this.threshold = settings.thresholdDb;
+    this.slope = 1 - 1 / settings.ratio;
+    this.knee = settings.kneeDb;
+    this.makeupDb = settings.makeupDb;
+    this.makeupGain = 10 ** (this.makeupDb / 20);
+    this.kneeStartPower = 10 ** ((this.threshold - this.knee / 2) / 10);
+    this.smoother.setTimes(sampleRate / this.controlFrames, settings.attackMs, settings.releaseMs);
   }
 
   reset(): void {

@@ -22,8 +22,8 @@ export const AUTO_SLOW_RELEASE_MS = 2500;
 const FLUSH_BELOW_DB = 1e-9;
 
 export class GainSmoother {
-  private readonly attackCoeff: number;
-  private readonly releaseCoeff: number;
+  private attackCoeff: number;
+  private releaseCoeff: number;
   /** The slow envelope's coefficients; 1 and 1 (frozen at 0) unless releaseMs is "auto". */
   private readonly slowAttackCoeff: number;
   private readonly slowReleaseCoeff: number;
@@ -42,6 +42,16 @@ export class GainSmoother {
     // max(fast, slow) = fast; `process` then runs the fast envelope alone.
     this.slowAttackCoeff = auto ? timeConstantCoeff(AUTO_SLOW_ATTACK_MS, sampleRate) : 1;
     this.slowReleaseCoeff = auto ? timeConstantCoeff(AUTO_SLOW_RELEASE_MS, sampleRate) : 1;
+  }
+
+  /**
+   * Live change of the time constants (the listening desk), keeping both
+   * envelopes. The release mode (fixed or "auto") is the constructor's: a
+   * change of mode needs a new smoother.
+   */
+  setTimes(sampleRate: number, attackMs: number, releaseMs: number | "auto"): void {
+    this.attackCoeff = timeConstantCoeff(attackMs, sampleRate);
+    this.releaseCoeff = timeConstantCoeff(releaseMs === "auto" ? AUTO_FAST_RELEASE_MS : releaseMs, sampleRate);
   }
 
   reset(): void {

@@ -34,7 +34,11 @@ export class MultibandCompressor implements Processor, GainReductionSource {
   /** The audible bands' indices, in order (the first `audibleCount` entries). */
   private readonly order: Int32Array;
   /** Four stereo bands, all compressed on the control-rate path with one step: see sumFourStereoInterpolated. */
-  private readonly fusedControl: boolean;
+  private fusedControl: boolean;
+  /** Live settings (the listening desk): each band's compressor, kept while the band is bypassed. */
+  private readonly held: (Compressor | null)[];
+  private readonly sampleRate: number;
+  private readonly maxBlockFrames: number;
 
   constructor(sampleRate: number, readonly channels: number, settings: MultibandSettings, maxBlockFrames: number) {
     if (settings.bands.length !== settings.crossoversHz.length + 1) {
@@ -50,6 +54,37 @@ export class MultibandCompressor implements Processor, GainReductionSource {
     this.order = new Int32Array(settings.bands.length);
     const k0 = this.compressors[0]?.controlFrames ?? 1;
     this.fusedControl = channels === 2 && settings.bands.length === 4 && !anySolo && k0 > 1 && this.compressors.every((c) => c !== null && c.controlFrames === k0);
+    this.held = this.compressors.slice();
+    this.sampleRate = sampleRate;
+    this.maxBlockFrames = maxBlockFrames;
+  }
+
+  /**
+   * Live settings change (the listening desk): each band's compressor
+   * settings (as Compressor.setSettings) and its bypass and solo flags,
+   * keeping the splitter's and the compressors' state; the output is then
+   * what a new stage with these settings makes from the same state. A band
+   * bypassed keeps its compressor aside (resumed as it was when it comes
+   * back). Crossovers, the band count and what a compressor fixes at
+   * construction (compressorLiveChangeable) need a new stage.
+   */
+  setSettings(settings: MultibandSettings): void {
+    const anySolo = settings.bands.some((b) => b.solo);
+    settings.bands.forEach((band, b) => {
+      this.audible[b] = !anySolo || !!band.solo;
+      if (band.bypass) {
+        if (this.compressors[b]) this.held[b] = this.compressors[b];
+        this.compressors[b] = null;
+        this.gains[b].fill(1);
+        return;
+      }
+      let comp = this.compressors[b] ?? this.held[b];
+      if (!comp) comp = this.held[b] = new Compressor(this.sampleRate, this.channels, band, this.maxBlockFrames);
+      comp.setSettings(this.sampleRate, band);
+      this.compressors[b] = comp;
+    });
+    const k0 = this.compressors[0]?.controlFrames ?? 1;
+    this.fusedControl = this.channels === 2 && settings.bands.length === 4 && !anySolo && k0 > 1 && this.compressors.every((c) => c !== null && c.controlFrames === k0);
   }
 
   reset(): void {

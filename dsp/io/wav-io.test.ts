@@ -243,3 +243,26 @@ describe("WAV bad input gives specific errors", () => {
     await expectWavError(save(riff([chunk("fmt ", fmtBody(1, 0, 48000, 16)), chunk("data", Buffer.alloc(10))])), "unsupported-format", /0 channels/);
   });
 });
+
+describe("WAV header bounds", () => {
+  it("header-too-long: a million empty chunks before the audio are refused from one buffered read, within 100 ms", async () => {
+    // 10⁶ empty "pad " chunks (8 bytes each), then fmt and data: 8 MB of header.
+    const pads = Buffer.alloc(1_000_000 * 8);
+    for (let i = 0; i < 1_000_000; i++) pads.write("pad ", i * 8, "latin1");
+    const p = save(riff([pads, chunk("fmt ", fmtBody(1, 1, 48000, 16)), chunk("data", pcm16([1, 2, 3]))]));
+    const started = performance.now();
+    await expectWavError(p, "header-too-long", /more than 512 chunks/);
+    expect(performance.now() - started).toBeLessThan(100);
+  });
+
+  it("reads a file whose fmt follows a large data chunk, and skips a large chunk before fmt", async () => {
+    const big = pcm16(Array.from({ length: 1_500_000 }, (_, i) => i % 1000));
+    const late = save(riff([chunk("data", big), chunk("fmt ", fmtBody(1, 1, 48000, 16))]));
+    expect((await probeWav(late)).frames).toBe(1_500_000);
+    const art = save(riff([chunk("JUNK", Buffer.alloc(2_500_000)), chunk("fmt ", fmtBody(1, 1, 48000, 16)), chunk("data", pcm16([1, 2]))]));
+    expect((await probeWav(art)).frames).toBe(2);
+    // Chunks spread over more windows than the bound are refused.
+    const spread = save(riff([0, 1, 2, 3, 4].map(() => chunk("JUNK", Buffer.alloc(1_200_000))).concat([chunk("fmt ", fmtBody(1, 1, 48000, 16)), chunk("data", pcm16([1, 2]))])));
+    await expectWavError(spread, "header-too-long", /spread too far/);
+  });
+});

@@ -1,8 +1,13 @@
 // Streaming WAV reader: 16/24/32-bit integer PCM and 32-bit float (also
 // 64-bit float), plain or WAVE_FORMAT_EXTENSIBLE, mono or stereo,
-// 44.1–192 kHz. The header is parsed from small reads; the data chunk is
-// read in blocks of a few hundred KB and decoded to planar float64 in
-// [-1, 1). Bad input throws a WavFormatError with a specific code.
+// 44.1–192 kHz. The chunks before the audio are parsed from one buffered
+// read of the header region (another only past a large chunk, or when the
+// fmt chunk follows the data), within bounds: at most MAX_HEADER_CHUNKS
+// chunks and MAX_HEADER_READS reads, else the file is refused
+// ("header-too-long"), so a file padded with a million empty chunks costs
+// milliseconds, not minutes. The data chunk is read in blocks of a few
+// hundred KB and decoded to planar float64 in [-1, 1). Bad input throws a
+// WavFormatError with a specific code.
 
 import { type FileHandle, open } from "node:fs/promises";
 
@@ -14,6 +19,7 @@ export type WavFormatErrorCode =
   | "no-frames"
   | "too-many-channels"
   | "non-finite"
+  | "header-too-long"
   | "unsupported-format";
 
 export class WavFormatError extends Error {
@@ -40,12 +46,22 @@ export interface WavReader {
   readonly format: WavFormat;
   /** Reads up to maxFrames frames into channels[ch][0..n); returns n, 0 at the end. */
   read(channels: Float64Array[], maxFrames: number): Promise<number>;
+  /** Moves past up to `frames` frames without decoding them (a pre-rolled region starts later in the file); returns how many. */
+  skip(frames: number): number;
   close(): Promise<void>;
 }
 
 export const MIN_SAMPLE_RATE = 44100;
 export const MAX_SAMPLE_RATE = 192000;
 const READ_BLOCK_BYTES = 384 * 1024;
+/** The first read of the header region: room for any ordinary header. */
+export const HEADER_FIRST_READ_BYTES = 64 * 1024;
+/** Each further read, past a large chunk. */
+export const HEADER_WINDOW_BYTES = 1024 * 1024;
+/** Reads while looking for fmt and data (the first; one past a large chunk; one past a data chunk followed by fmt). */
+export const MAX_HEADER_READS = 4;
+/** Chunks walked while looking for fmt and data. */
+export const MAX_HEADER_CHUNKS = 512;
 const TAG_PCM = 0x0001;
 const TAG_FLOAT = 0x0003;
 const TAG_EXTENSIBLE = 0xfffe;
@@ -87,9 +103,43 @@ function describeTag(tag: number): string {
   return CODEC_NAMES[tag] ? `${CODEC_NAMES[tag]} (format tag ${hex})` : `format tag ${hex}`;
 }
 
+/** Where the header's bytes come from: a file, or memory (tests, the fuzzer). */
+interface ByteSource {
+  size: number;
+  read(position: number, length: number): Promise<Uint8Array>;
+}
+
+function fileSource(fh: FileHandle, size: number): ByteSource {
+  return { size, read: (position, length) => readAt(fh, position, length) };
+}
+
+function memorySource(bytes: Uint8Array): ByteSource {
+  return { size: bytes.length, read: async (position, length) => bytes.subarray(position, Math.min(bytes.length, position + length)) };
+}
+
+const tooLong = (why: string) => new WavFormatError("header-too-long", `${why} before the audio: not a WAV file Tidemark reads`);
+
 async function parseHeader(fh: FileHandle): Promise<ParsedHeader> {
-  const fileSize = (await fh.stat()).size;
-  const riff = await readAt(fh, 0, 12);
+  return parseHeaderFrom(fileSource(fh, (await fh.stat()).size));
+}
+
+async function parseHeaderFrom(source: ByteSource): Promise<ParsedHeader> {
+  const fileSize = source.size;
+  let windowStart = 0;
+  let window = Buffer.from(await source.read(0, Math.min(fileSize, HEADER_FIRST_READ_BYTES)));
+  let reads = 1;
+  // Bytes of the header region, from the window when they are in it, else from one more window read.
+  const bytesAt = async (position: number, length: number): Promise<Buffer> => {
+    if (position < windowStart || position + length > windowStart + window.length) {
+      if (position + length > windowStart + window.length && windowStart + window.length >= fileSize) return window.subarray(position - windowStart);
+      reads += 1;
+      if (reads > MAX_HEADER_READS) throw tooLong("chunks spread too far");
+      windowStart = position;
+      window = Buffer.from(await source.read(position, Math.min(fileSize - position, HEADER_WINDOW_BYTES)));
+    }
+    return window.subarray(position - windowStart, position - windowStart + length);
+  };
+  const riff = await bytesAt(0, 12);
   if (riff.length < 12 || riff.toString("latin1", 0, 4) !== "RIFF" || riff.toString("latin1", 8, 12) !== "WAVE") {
     if (riff.length >= 4 && riff.toString("latin1", 0, 4) === "RF64") {
       throw new WavFormatError("unsupported-format", "RF64 (WAV larger than 4 GB) is not supported");
@@ -98,16 +148,21 @@ async function parseHeader(fh: FileHandle): Promise<ParsedHeader> {
   }
 
   let pos = 12;
+  let chunks = 0;
   let fmt: Buffer | null = null;
   let data: { offset: number; size: number } | null = null;
   while (pos + 8 <= fileSize && (!fmt || !data)) {
-    const head = await readAt(fh, pos, 8);
+    chunks += 1;
+    if (chunks > MAX_HEADER_CHUNKS) throw tooLong(`more than ${MAX_HEADER_CHUNKS} chunks`);
+    const head = await bytesAt(pos, 8);
+    if (head.length < 8) break;
     const id = head.toString("latin1", 0, 4);
     const size = head.readUInt32LE(4);
     const body = pos + 8;
     if (id === "fmt ") {
       if (size < 16) throw new WavFormatError("truncated", `fmt chunk is ${size} bytes, at least 16 expected`);
-      fmt = await readAt(fh, body, Math.min(size, 64));
+      // Copied: the window is replaced when a later read moves it.
+      fmt = Buffer.from(await bytesAt(body, Math.min(size, 64, fileSize - body)));
       if (fmt.length < Math.min(size, 64)) throw new WavFormatError("truncated", "file ends inside the fmt chunk");
     } else if (id === "data") {
       const available = fileSize - body;
@@ -173,6 +228,16 @@ async function parseHeader(fh: FileHandle): Promise<ParsedHeader> {
     dataOffset: data.offset,
     blockAlign,
   };
+}
+
+/** The format and where the audio starts, from a WAV's first bytes (a stored file's header read by range). */
+export async function parseWavHeaderBytes(bytes: Uint8Array, fileSize: number): Promise<{ format: WavFormat; dataOffset: number; blockAlign: number }> {
+  return parseHeaderFrom({ size: fileSize, read: async (position, length) => bytes.subarray(position, Math.min(bytes.length, position + length)) });
+}
+
+/** The format of a WAV held in memory (the fuzzer's way in; the same parser as files). */
+export async function probeWavBytes(bytes: Uint8Array): Promise<WavFormat> {
+  return (await parseHeaderFrom(memorySource(bytes))).format;
 }
 
 export async function probeWav(path: string): Promise<WavFormat> {
@@ -245,9 +310,21 @@ class StreamingWavReader implements WavReader {
     return done;
   }
 
+  skip(frames: number): number {
+    const n = Math.max(0, Math.min(Math.floor(frames), this.framesLeft));
+    this.position += n * this.blockAlign;
+    this.framesLeft -= n;
+    this.framesRead += n;
+    return n;
+  }
+
   private decode(channels: Float64Array[], offset: number, n: number): void {
     const nch = this.format.channels;
     const { bitDepth, sampleFormat } = this.format;
+    // The first non-finite sample in frame order (channels are decoded one after the other).
+    let badFrame = n;
+    let badChannel = 0;
+    let badValue = 0;
     for (let ch = 0; ch < nch; ch++) {
       const out = channels[ch];
       if (sampleFormat === "float") {
@@ -255,7 +332,12 @@ class StreamingWavReader implements WavReader {
         for (let i = 0, j = ch; i < n; i++, j += nch) {
           const v = src[j];
           if (v - v !== 0) {
-            throw new WavFormatError("non-finite", `sample ${String(v)} (not a finite number) at frame ${this.framesRead + i}, channel ${ch + 1}`);
+            if (i < badFrame) {
+              badFrame = i;
+              badChannel = ch;
+              badValue = v;
+            }
+            break;
           }
           out[offset + i] = v;
         }
@@ -274,6 +356,9 @@ class StreamingWavReader implements WavReader {
         for (let i = 0, j = ch; i < n; i++, j += nch) out[offset + i] = src[j] * (1 / 2147483648);
       }
     }
+    if (badFrame < n) {
+      throw new WavFormatError("non-finite", `sample ${String(badValue)} (not a finite number) at frame ${this.framesRead + badFrame}, channel ${badChannel + 1}`);
+    }
   }
 
   async close(): Promise<void> {
@@ -288,5 +373,22 @@ export async function openWav(path: string): Promise<WavReader> {
   } catch (err) {
     await fh.close();
     throw err;
+  }
+}
+
+/**
+ * Reads every sample of a float file once, so a file holding NaN or an
+ * infinity is refused where it arrives (the reader's "non-finite" error names
+ * the first bad frame and channel). Integer files cannot hold such samples.
+ */
+export async function checkWavSamples(path: string): Promise<void> {
+  const reader = await openWav(path);
+  try {
+    if (reader.format.sampleFormat !== "float") return;
+    const block = 65536;
+    const buffers = Array.from({ length: reader.format.channels }, () => new Float64Array(block));
+    while ((await reader.read(buffers, block)) > 0);
+  } finally {
+    await reader.close();
   }
 }

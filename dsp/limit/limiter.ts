@@ -40,11 +40,11 @@ export const SAMPLE_PEAK_MARGIN_DB = 1e-6;
 export class Limiter implements Processor, GainReductionSource {
   readonly latencyFrames: number;
   readonly traceNames: readonly string[] = ["gr"];
-  private readonly inputGain: number;
-  private readonly ceiling: number;
+  private inputGain: number;
+  private ceiling: number;
   private readonly lookaheadFrames: number;
   private readonly delayFrames: number;
-  private readonly release: number;
+  private release: number;
   private readonly hold: SlidingMin;
   private readonly boxcar: Float64Array;
   private readonly boxLength: number;
@@ -80,6 +80,17 @@ export class Limiter implements Processor, GainReductionSource {
     this.peaks = new Float64Array(maxBlockFrames);
     this.gained = this.delay.map((d) => d.subarray(0, 0));
     this.reset();
+  }
+
+  /**
+   * Live settings change (the listening desk): input gain, ceiling and
+   * release, keeping the delay lines and envelopes. Lookahead and true-peak
+   * detection size the memory: a change of those needs a new limiter.
+   */
+  setSettings(sampleRate: number, settings: LimiterSettings): void {
+    this.inputGain = dbToLinear(settings.inputGainDb);
+    this.ceiling = dbToLinear(settings.ceilingDbtp - (this.detector ? TRUE_PEAK_MARGIN_DB : SAMPLE_PEAK_MARGIN_DB));
+    this.release = timeConstantCoeff(settings.releaseMs, sampleRate);
   }
 
   reset(): void {

@@ -9,13 +9,17 @@
 // the result. Channel weights: 1.0 for left, right and mono.
 
 import { kWeightingCoeffs } from "./k-weighting.ts";
+import { ReconstructedPeakDetector } from "./reconstruct-peak.ts";
 import { TruePeakDetector } from "./true-peak.ts";
+import { type ThirdOctaveBand, ThirdOctaveAnalyzer } from "../spectrum/third-octave.ts";
 
 export interface LoudnessAnalysis {
   integratedLufs: number;
   loudnessRangeLu: number;
   /** NaN when the meter was built with truePeak: false. */
   truePeakDbtp: number;
+  /** Peak of the waveform reconstructed on an 8× grid, flat to 0.45·fs (reconstruct-peak.ts); NaN with truePeak: false. */
+  reconstructedPeakDb: number;
   samplePeakDbfs: number;
   maxMomentaryLufs: number;
   maxShortTermLufs: number;
@@ -24,6 +28,8 @@ export interface LoudnessAnalysis {
   gridMs: number;
   /** Short-term loudness at the end of each grid step (window padded with silence before the start); -Infinity where silent. */
   shortTermLufs: number[];
+  /** Long-term third-octave spectrum (25 Hz – 20 kHz); present when the meter was built with spectrum: true. */
+  thirdOctave?: ThirdOctaveBand[];
 }
 
 export interface MeterOptions {
@@ -31,6 +37,10 @@ export interface MeterOptions {
   truePeak?: boolean;
   /** Step of the short-term curve in ms; must divide 100 ms into whole frames. Default 10. */
   gridMs?: number;
+  /** Keep the short-term curve and the gating blocks for result(); default true. Live meters (the listening desk) that run for hours turn it off and read momentaryLufs / shortTermLufs. */
+  history?: boolean;
+  /** Measure the third-octave spectrum in the same pass (`dsp/spectrum/third-octave.ts`); default false. */
+  spectrum?: boolean;
 }
 
 const LOUDNESS_OFFSET_DB = -0.691;
@@ -106,7 +116,10 @@ export class LoudnessMeter {
   private readonly weights: Float64Array;
   private readonly ring: Float64Array; // weighted energy of the last shortTermSteps grid steps
   private readonly truePeak: TruePeakDetector | null;
+  private readonly reconstructed: ReconstructedPeakDetector | null;
   private readonly tpChunk: Float64Array[];
+  private readonly spectrum: ThirdOctaveAnalyzer | null;
+  private readonly tail: Float64Array[]; // silence after the end, for the reconstruction's last points
   private stepFill = 0;
   private stepCount = 0;
   private samplePeak = 0;
@@ -118,6 +131,9 @@ export class LoudnessMeter {
   private readonly momentaryBlocks = new NumberList();
   private readonly shortTermBlocks = new NumberList();
   private readonly shortTermCurve: number[] = [];
+  private readonly history: boolean;
+  private lastMomentaryPower = 0;
+  private lastShortTermPower = 0;
 
   constructor(sampleRate: number, channels: number, options: MeterOptions = {}) {
     if (!(channels === 1 || channels === 2)) throw new RangeError(`the meter takes 1 or 2 channels, got ${channels}`);
@@ -141,7 +157,26 @@ export class LoudnessMeter {
     this.ring = new Float64Array(this.shortTermSteps);
     const wantTruePeak = options.truePeak ?? true;
     this.truePeak = wantTruePeak ? new TruePeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
+    this.reconstructed = wantTruePeak ? new ReconstructedPeakDetector(sampleRate, channels, TRUE_PEAK_CHUNK_FRAMES) : null;
+    this.tail = wantTruePeak ? Array.from({ length: channels }, () => new Float64Array(this.reconstructed!.latencyFrames)) : [];
     this.tpChunk = [];
+    this.history = options.history ?? true;
+    this.spectrum = options.spectrum ? new ThirdOctaveAnalyzer(sampleRate, channels) : null;
+  }
+
+  /** Momentary loudness (400 ms) at the last completed grid step; -Infinity when silent. */
+  get momentaryLufs(): number {
+    return powerToLufs(this.lastMomentaryPower);
+  }
+
+  /** Short-term loudness (3 s) at the last completed grid step; -Infinity when silent. */
+  get shortTermLufs(): number {
+    return powerToLufs(this.lastShortTermPower);
+  }
+
+  /** Grid steps completed since the start (or the last reset). */
+  get steps(): number {
+    return this.stepCount;
   }
 
   reset(): void {
@@ -149,8 +184,30 @@ export class LoudnessMeter {
     this.stepEnergy.fill(0);
     this.ring.fill(0);
     this.truePeak?.reset();
+    this.spectrum?.reset();
+    this.reconstructed?.reset();
     this.stepFill = 0;
     this.stepCount = 0;
+    this.samplePeak = 0;
+    this.sumLL = this.sumRR = this.sumLR = 0;
+    this.maxMomentaryPower = this.maxShortTermPower = 0;
+    this.lastMomentaryPower = this.lastShortTermPower = 0;
+    this.momentaryBlocks.clear();
+    this.shortTermBlocks.clear();
+    this.shortTermCurve.length = 0;
+  }
+
+  /**
+   * Starts the measurement over while keeping the filters, the windows and the
+   * step grid where the audio so far left them: after a pre-roll, the region's
+   * figures (peaks, loudness, range, the short-term curve) as a meter that ran
+   * from the file's start sees them over that stretch. Gating blocks ending
+   * after this point still reach back into the pre-roll, as the whole-file
+   * meter's do.
+   */
+  restartTotals(): void {
+    this.truePeak?.resetMax();
+    this.reconstructed?.resetMax();
     this.samplePeak = 0;
     this.sumLL = this.sumRR = this.sumLR = 0;
     this.maxMomentaryPower = this.maxShortTermPower = 0;
@@ -167,8 +224,10 @@ export class LoudnessMeter {
         const n = Math.min(TRUE_PEAK_CHUNK_FRAMES, frames - start);
         for (let ch = 0; ch < this.channels; ch++) this.tpChunk[ch] = channels[ch].subarray(start, start + n);
         this.truePeak.process(this.tpChunk, n);
+        this.reconstructed!.process(this.tpChunk, n);
       }
     }
+    this.spectrum?.process(channels, frames);
     let pos = 0;
     while (pos < frames) {
       const n = Math.min(frames - pos, this.gridFrames - this.stepFill);
@@ -292,6 +351,9 @@ export class LoudnessMeter {
     const shortTermPower = shortSum / (ringLen * this.gridFrames);
     if (momentaryPower > this.maxMomentaryPower) this.maxMomentaryPower = momentaryPower;
     if (shortTermPower > this.maxShortTermPower) this.maxShortTermPower = shortTermPower;
+    this.lastMomentaryPower = momentaryPower;
+    this.lastShortTermPower = shortTermPower;
+    if (!this.history) return;
     this.shortTermCurve.push(powerToLufs(shortTermPower));
     if (this.stepCount % this.stepsPer100Ms === 0) {
       const tenths = this.stepCount / this.stepsPer100Ms;
@@ -302,6 +364,13 @@ export class LoudnessMeter {
 
   result(): LoudnessAnalysis {
     const tp = this.truePeak ? Math.max(this.truePeak.maxAbs, this.samplePeak) : NaN;
+    let reconstructed = NaN;
+    if (this.reconstructed) {
+      // The last frames' points need the frames after them: read them as the file followed by silence, on a copy.
+      const probe = this.reconstructed.snapshot();
+      probe.process(this.tail, this.reconstructed.latencyFrames);
+      reconstructed = Math.max(probe.maxAbs, this.samplePeak);
+    }
     let correlation = 1;
     if (this.channels === 2) {
       const denom = Math.sqrt(this.sumLL * this.sumRR);
@@ -311,12 +380,14 @@ export class LoudnessMeter {
       integratedLufs: gatedLoudness(this.momentaryBlocks.view(), INTEGRATED_RELATIVE_GATE_LU).lufs,
       loudnessRangeLu: loudnessRange(this.shortTermBlocks.view()),
       truePeakDbtp: this.truePeak ? 20 * Math.log10(tp) : NaN,
+      reconstructedPeakDb: 20 * Math.log10(reconstructed),
       samplePeakDbfs: 20 * Math.log10(this.samplePeak),
       maxMomentaryLufs: powerToLufs(this.maxMomentaryPower),
       maxShortTermLufs: powerToLufs(this.maxShortTermPower),
       correlation,
       gridMs: this.gridMs,
       shortTermLufs: this.shortTermCurve.slice(),
+      ...(this.spectrum ? { thirdOctave: this.spectrum.result() } : {}),
     };
   }
 }

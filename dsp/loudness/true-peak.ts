@@ -105,6 +105,11 @@ export class TruePeakDetector {
     for (const h of this.hist) h.fill(0);
   }
 
+  /** Forgets the maximum so far, keeping the history (a pre-rolled meter starting its region). */
+  resetMax(): void {
+    this.max = 0;
+  }
+
   /** Updates maxAbs with `frames` frames of `channels` (not modified). */
   process(channels: Float64Array[], frames: number): void {
     this.loadBlock(channels, frames);

@@ -56,6 +56,18 @@ export class Prng {
   }
 }
 
+/** Advances a generator as `draws` calls of next() would (in blocks through fillTpdf, two draws a value). */
+export function skipDraws(prng: Prng, draws: number): void {
+  const scratch = new Float64Array(4096);
+  let pairs = Math.floor(draws / 2);
+  while (pairs > 0) {
+    const n = Math.min(pairs, scratch.length);
+    prng.fillTpdf(scratch, n);
+    pairs -= n;
+  }
+  if (draws % 2 === 1) prng.next();
+}
+
 function rotl(x: number, k: number): number {
   return (x << k) | (x >>> (32 - k));
 }

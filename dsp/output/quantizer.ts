@@ -10,7 +10,7 @@
 // One generator per channel keeps the output independent of the block size.
 
 import type { Planar, Processor } from "../processor.ts";
-import { Prng } from "./prng.ts";
+import { Prng, skipDraws } from "./prng.ts";
 
 export type OutputBitDepth = 16 | 24 | "32f";
 
@@ -30,6 +30,12 @@ export class Quantizer implements Processor {
 
   reset(): void {
     this.generators.splice(0, this.generators.length, ...this.generators.map((_, c) => new Prng(this.seed + 7919 * c)));
+  }
+
+  /** Advances the dither as if `frames` frames had been processed (a render that starts later in the stream: a pre-rolled preview). */
+  skipFrames(frames: number): void {
+    if (this.scale === 0 || this.dither !== "tpdf") return;
+    for (const g of this.generators) skipDraws(g, 2 * frames);
   }
 
   process(channels: Planar, frames: number): void {

@@ -20,6 +20,16 @@
 // the file, so the last pass is the delivered one.
 // Preview without a region: a first analysis pass of the input (short-term
 // loudness only, no true peak) finds the loudest 30 s.
+//
+// Previews are the print: a region's samples equal the whole-file render's
+// over the same frames (same chain, same target). With a loudness target the
+// gain is the print's: searched on the whole mix as a print searches it
+// (without writing), or given by the caller from a cache (targetGainDb).
+// Every processor and both meters start PREROLL_S before the region (see
+// preroll.ts: why that is enough, and the alignment that keeps chunks, gating
+// blocks and control groups on the print's frames); the dither generator is
+// advanced to the pre-roll's first frame. The meters measure the pre-roll
+// and then start their totals over at the region's first frame.
 
 import { randomBytes } from "node:crypto";
 import { rename, unlink } from "node:fs/promises";
@@ -31,6 +41,7 @@ import { createWavWriter } from "../io/wav-writer.ts";
 import { LoudnessMeter, type LoudnessAnalysis } from "../loudness/meter.ts";
 import { Quantizer } from "../output/quantizer.ts";
 import { loudestWindow } from "./loudest-window.ts";
+import { prerollStartFrame } from "./preroll.ts";
 
 export const GRID_MS = 10;
 export const READ_FRAMES = 32768;
@@ -51,6 +62,11 @@ export interface RenderOptions {
   preview?: boolean;
   /** Overrides chain.output.targetLufs. */
   targetLufs?: number;
+  /**
+   * The gain this chain needs to reach the target on this whole mix, found by
+   * an earlier render (a cache): used as is, no search. Only with a target.
+   */
+  targetGainDb?: number;
   onProgress?: (fraction: number) => void;
   /** Frames per read (tests use it to check block-size independence). */
   readFrames?: number;
@@ -109,37 +125,45 @@ export async function renderFile(inputPath: string, outputPath: string, chain: C
   }
   const target = options.targetLufs ?? chain.output.targetLufs;
   const tmpPath = join(dirname(outputPath), `.${basename(outputPath)}.${randomBytes(6).toString("hex")}.tmp`);
-  const expectedPasses = target === undefined ? 1 : 3;
+  const readFrames = options.readFrames ?? READ_FRAMES;
+  const known = target !== undefined ? options.targetGainDb : undefined;
+  // A region with a target and no known gain: the whole-mix search first (not written), then the region.
+  const searchFirst = target !== undefined && known === undefined && region !== undefined;
+  const expectedPasses = target === undefined || known !== undefined ? 1 : searchFirst ? 4 : 3;
+  let passesRun = 0;
+  const progress = (f: number) => options.onProgress?.(Math.min(0.99, (passesRun + f) / Math.max(expectedPasses, passesRun + 1)));
   try {
-    let gainDb = 0;
-    let pass = 0;
+    let gainDb = known ?? 0;
     let result: PassResult | undefined;
-    let previous: { gainDb: number; lufs: number } | null = null;
-    for (;;) {
-      const passIndex = pass;
-      result = await renderPass(inputPath, tmpPath, chain, gainDb, region, options.readFrames ?? READ_FRAMES, (f) =>
-        options.onProgress?.(Math.min(0.99, (passIndex + f) / Math.max(expectedPasses, passIndex + 1))),
-        pass > 0 ? result!.input : null,
-      );
-      pass++;
-      if (target === undefined) break;
-      const lufs = result.output.integratedLufs;
-      if (!Number.isFinite(lufs) || Math.abs(lufs - target) <= TARGET_AIM_LU || pass >= MAX_PASSES) break;
-      let slope = 1;
-      if (previous && previous.gainDb !== gainDb) slope = (lufs - previous.lufs) / (gainDb - previous.gainDb);
-      // A limiter flattens the curve; a wrong-signed or tiny slope would overshoot.
-      slope = Math.min(1.5, Math.max(0.1, slope));
-      previous = { gainDb, lufs };
-      gainDb = Math.max(-MAX_TARGET_GAIN_DB, Math.min(MAX_TARGET_GAIN_DB, gainDb + (target - lufs) / slope));
+    let inputWhole: RenderAnalysis | null = null;
+    if (target !== undefined && known === undefined) {
+      // The print's search: the same passes whether they write (a print) or not (before a region).
+      let previous: { gainDb: number; lufs: number } | null = null;
+      for (;;) {
+        result = await renderPass(inputPath, searchFirst ? null : tmpPath, chain, gainDb, undefined, readFrames, progress, inputWhole);
+        inputWhole = result.input;
+        passesRun++;
+        const lufs = result.output.integratedLufs;
+        if (!Number.isFinite(lufs) || Math.abs(lufs - target) <= TARGET_AIM_LU || passesRun >= MAX_PASSES) break;
+        let slope = 1;
+        if (previous && previous.gainDb !== gainDb) slope = (lufs - previous.lufs) / (gainDb - previous.gainDb);
+        // A limiter flattens the curve; a wrong-signed or tiny slope would overshoot.
+        slope = Math.min(1.5, Math.max(0.1, slope));
+        previous = { gainDb, lufs };
+        gainDb = Math.max(-MAX_TARGET_GAIN_DB, Math.min(MAX_TARGET_GAIN_DB, gainDb + (target - lufs) / slope));
+      }
     }
-    if (!result) throw new Error("no render pass ran");
+    if (result === undefined || searchFirst) {
+      result = await renderPass(inputPath, tmpPath, chain, gainDb, region, readFrames, progress, null);
+      passesRun++;
+    }
     await rename(tmpPath, outputPath);
     options.onProgress?.(1);
     return {
       input: result.input,
       output: result.output,
       traces: { gridMs: GRID_MS, stages: result.stages, shortTermLufs: result.output.shortTermLufs },
-      passes: pass,
+      passes: passesRun,
       ...(region ? { region } : {}),
       ...(target !== undefined ? { targetGainDb: gainDb } : {}),
       latencyFrames: result.latencyFrames,
@@ -159,9 +183,10 @@ interface PassResult {
 
 const PROGRESS_EVERY_MS = 250;
 
+/** One pass over the file (or a pre-rolled region of it); outPath null measures without writing. */
 async function renderPass(
   inputPath: string,
-  outPath: string,
+  outPath: string | null,
   chain: Chain,
   extraGainDb: number,
   region: RenderRegion | undefined,
@@ -185,13 +210,16 @@ async function renderPass(
   const latency = built.latencyFrames;
   const bitDepth = chain.output.bitDepth;
   const quantizer = new Quantizer(nch, bitDepth, chain.output.dither);
-  const writer = await createWavWriter(outPath, { sampleRate: sr, channels: nch, bitDepth: bitDepth === "32f" ? 32 : bitDepth, float: bitDepth === "32f" });
+  const writer = outPath === null ? null : await createWavWriter(outPath, { sampleRate: sr, channels: nch, bitDepth: bitDepth === "32f" ? 32 : bitDepth, float: bitDepth === "32f" });
   // The input is the same on every pass: meter it once.
   const meterIn = previousInput ? null : new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
-  const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS });
-  const startFrame = region ? Math.round(region.startS * sr) : 0;
+  const meterOut = new LoudnessMeter(sr, nch, { truePeak: true, gridMs: GRID_MS, spectrum: true });
+  const regionStart = region ? Math.round(region.startS * sr) : 0;
   const endFrame = region ? Math.min(fmt.frames, Math.round(region.endS * sr)) : fmt.frames;
-  const totalFrames = endFrame - startFrame;
+  const totalFrames = endFrame - regionStart;
+  // Processing starts at the pre-roll's first frame; the dither continues from there as in the whole-file render.
+  const startFrame = prerollStartFrame(regionStart, sr);
+  quantizer.skipFrames(startFrame);
 
   const readBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
   const spareBufs = Array.from({ length: nch }, () => new Float64Array(readFrames));
@@ -200,7 +228,8 @@ async function renderPass(
   const chunk = Array.from({ length: nch }, () => new Float64Array(gridFrames));
   const views: Float64Array[] = Array.from({ length: nch }, () => new Float64Array(0));
   let chunkFill = 0;
-  let dropLeft = latency;
+  let latencyLeft = latency; // output frames that are the chain's delay: never kept
+  let prerollLeft = regionStart - startFrame; // output frames of the pre-roll: metered, not kept
   let written = 0;
 
   const grStages = built.stages.filter((s) => s.gainReduction);
@@ -216,16 +245,23 @@ async function renderPass(
       for (let t = 0; t < grScratch[g].length; t++) grTraces[g][t].push(grScratch[g][t]);
     }
     let from = 0;
-    if (dropLeft > 0) {
-      from = Math.min(frames, dropLeft);
-      dropLeft -= from;
+    if (latencyLeft > 0) {
+      from = Math.min(frames, latencyLeft);
+      latencyLeft -= from;
+    }
+    if (prerollLeft > 0 && from < frames) {
+      const n = Math.min(frames - from, prerollLeft);
+      meterOut.process(from === 0 ? data : data.map((d) => d.subarray(from, from + n)), n);
+      prerollLeft -= n;
+      from += n;
+      if (prerollLeft === 0) meterOut.restartTotals();
     }
     // Never write past the input's length (the zero tail only flushes the latency).
     const keep = Math.min(frames - from, totalFrames - written);
     if (keep <= 0) return;
     const out = from === 0 ? data : data.map((d) => d.subarray(from, from + keep));
     meterOut.process(out, keep);
-    await writer.write(out, keep);
+    await writer?.write(out, keep);
     written += keep;
   };
 
@@ -254,44 +290,56 @@ async function renderPass(
   };
 
   try {
-    let pos = 0;
+    let pos = reader.skip(startFrame);
     let lastProgress = Date.now();
     // Double-buffered: the next read is in flight while this block is processed.
     let current = readBufs;
     let spare = spareBufs;
-    let pending = reader.read(current, Math.min(readFrames, endFrame));
-    while (pos < endFrame) {
+    // A region that ends before the file does reads on for the chain's latency (the lookahead sees
+    // what the print's sees there); only what lies past the file's end is flushed with zeros.
+    const readEnd = Math.min(fmt.frames, endFrame + latency);
+    let pending = reader.read(current, Math.min(readFrames, readEnd - pos));
+    while (pos < readEnd) {
       const n = await pending;
       if (n === 0) break;
       const bufs = current;
       const nextPos = pos + n;
-      if (nextPos < endFrame) {
+      if (nextPos < readEnd) {
         current = spare;
         spare = bufs;
-        pending = reader.read(current, Math.min(readFrames, endFrame - nextPos));
+        pending = reader.read(current, Math.min(readFrames, readEnd - nextPos));
       } else pending = Promise.resolve(0);
       const from = Math.max(0, startFrame - pos);
       if (from < n) {
         const use = n - from;
         if (from > 0) for (let c = 0; c < nch; c++) bufs[c].copyWithin(0, from, n);
-        meterIn?.process(bufs, use);
+        if (meterIn) {
+          // The input meter too runs through the pre-roll and starts its totals at the region.
+          // Frames past the region (read for the latency) are not the input's.
+          const absStart = pos + from;
+          const inUse = Math.max(0, Math.min(use, endFrame - absStart));
+          const cut = Math.min(inUse, Math.max(0, regionStart - absStart));
+          if (cut > 0) meterIn.process(bufs, cut);
+          if (cut > 0 && absStart + cut === regionStart) meterIn.restartTotals();
+          if (inUse > cut) meterIn.process(cut === 0 ? bufs : bufs.map((b) => b.subarray(cut, inUse)), inUse - cut);
+        }
         await feed(bufs, 0, use);
       }
       pos = nextPos;
       const now = Date.now();
       if (now - lastProgress >= PROGRESS_EVERY_MS) {
         lastProgress = now;
-        onProgress(Math.max(0, pos - startFrame) / Math.max(1, totalFrames));
+        onProgress(Math.max(0, pos - startFrame) / Math.max(1, endFrame - startFrame));
       }
     }
-    await feed(null, 0, latency);
+    await feed(null, 0, latency - (readEnd - endFrame));
     if (chunkFill > 0) await processChunk(chunk, chunkFill);
-    await writer.close();
+    await writer?.close();
   } finally {
     await reader.close();
   }
 
-  const gridDrop = Math.round(latency / gridFrames);
+  const gridDrop = Math.round((latency + regionStart - startFrame) / gridFrames);
   const gridKeep = Math.ceil(totalFrames / gridFrames);
   const stages: StageTrace[] = grStages.map((s, g) => ({
     index: s.index,

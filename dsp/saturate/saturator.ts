@@ -45,9 +45,9 @@ export function levelCompensation(drive: number, peak: number): number {
 export class Saturator implements Processor {
   readonly latencyFrames: number;
   private readonly fused: Saturate2x | Saturate4x;
-  private readonly drive: number;
-  private readonly wetGain: number;
-  private readonly dryGain: number;
+  private drive: number;
+  private wetGain: number;
+  private dryGain: number;
 
   constructor(sampleRate: number, readonly channels: number, settings: SaturatorSettings, maxBlockFrames: number) {
     this.fused = settings.oversample === 2 ? new Saturate2x(channels) : new Saturate4x(channels);
@@ -58,6 +58,14 @@ export class Saturator implements Processor {
     this.dryGain = 1 - blend;
     void sampleRate; // the curve is rate-independent; kept for the common constructor shape
     void maxBlockFrames; // the fused kernels need no buffers
+  }
+
+  /** Live change of drive and blend (the listening desk), keeping the filter state; the oversampling factor is the constructor's. */
+  setSettings(settings: SaturatorSettings): void {
+    this.drive = dbToLinear(settings.driveDb);
+    const blend = Math.min(1, Math.max(0, settings.blend));
+    this.wetGain = (blend * levelCompensation(this.drive, dbToLinear(REFERENCE_PEAK_DB))) / this.drive;
+    this.dryGain = 1 - blend;
   }
 
   reset(): void {

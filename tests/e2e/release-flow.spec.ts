@@ -43,7 +43,7 @@ test("an engineer creates a release with two tracks; the client sees only their 
     await page.getByRole("button", { name: "Add track" }).click();
     await expect(page.getByRole("heading", { level: 1, name: title })).toBeVisible();
   }
-  const tracks = page.getByRole("table", { name: "Tracks" });
+  const tracks = page.getByRole("table", { name: "Tracks", exact: true });
   await expect(tracks.getByRole("row")).toHaveCount(3);
   await expect(tracks.getByRole("row").nth(1)).toContainText("Breakwater");
   await expect(tracks.getByRole("row").nth(1)).toContainText("ZZ-TDM-27-00101");
@@ -90,7 +90,7 @@ test.describe("at phone width", () => {
 
   test("no page scrolls sideways", async ({ page }) => {
     await signIn(page, DEMO_OWNER);
-    await page.getByRole("link", { name: "Lowlight Weather" }).click();
+    await page.getByRole("link", { name: "Lowlight Weather", exact: true }).click();
     await expect(page.getByRole("heading", { level: 1, name: "Lowlight Weather" })).toBeVisible();
     const releasePath = new URL(page.url()).pathname;
     await page.getByRole("link", { name: "Cartographer" }).click();

@@ -104,7 +104,8 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
     await expect(v1).toContainText(/dBTP/);
 
     await page.setViewportSize({ width: 375, height: 800 });
-    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(375);
+    // Charts and players re-measure on their resize observers' next frames: wait for the layout to settle, then read it.
+    await expect.poll(() => page.evaluate(() => document.documentElement.scrollWidth), { timeout: 5_000 }).toBeLessThanOrEqual(375);
     await page.setViewportSize({ width: 1280, height: 800 });
 
     // A refused file: the reader's reason beside the form, nothing added.
@@ -117,7 +118,7 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
 
     // A preview of a region through the studio's gentle template.
     await page.getByRole("link", { name: "New render" }).click();
-    await page.getByLabel("Chain").selectOption({ label: `${TEMPLATE} · rev 1 (template)` });
+    await page.getByLabel("Chain", { exact: true }).selectOption({ label: `${TEMPLATE} · rev 1 (template)` });
     await page.getByLabel("From … to …").check();
     await page.getByLabel("Start (s)").fill("1");
     await page.getByLabel("End (s)").fill("9");
@@ -139,13 +140,14 @@ test("an engineer uploads a mix, renders a preview and a print, and downloads th
 
     // At phone width the page does not scroll sideways.
     await page.setViewportSize({ width: 375, height: 800 });
-    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(375);
+    // Charts and players re-measure on their resize observers' next frames: wait for the layout to settle, then read it.
+    await expect.poll(() => page.evaluate(() => document.documentElement.scrollWidth), { timeout: 5_000 }).toBeLessThanOrEqual(375);
     await page.setViewportSize({ width: 1280, height: 800 });
 
     // Then the print, and its download.
     await page.getByRole("link", { name: "Render a print" }).click();
     await expect(page.getByLabel("Print (the whole mix)")).toBeChecked();
-    await page.getByLabel("Chain").selectOption({ label: `${TEMPLATE} · rev 1 (template)` });
+    await page.getByLabel("Chain", { exact: true }).selectOption({ label: `${TEMPLATE} · rev 1 (template)` });
     await page.getByRole("button", { name: "Render", exact: true }).click();
     await expect(page.getByRole("heading", { level: 1, name: "Print of v1" })).toBeVisible();
     await expect(page.getByTestId("render-state")).toHaveAttribute("data-state", "done", { timeout: 120_000 });

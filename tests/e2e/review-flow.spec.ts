@@ -1,14 +1,14 @@
-// The client review in two browsers against the production build and its
+// The client's review in two browsers against the production build and its
 // worker, which renders the previews and delivers the mail outbox to the fake
 // SMTP server. The engineer makes a track and uploads a synthesized mix of our
-// own through the API, renders a short preview of a region on the render page
+// own through the API, renders a short preview of a region (1–5 s of the song)
 // and waits for the worker, listens to it against its own mix on the compare
-// page, and sends it for review. The client opens the link from the e-mail,
-// sees the monitoring reminder, plays, leaves a comment at a time and asks
-// for changes; the engineer sees the comment marker, renders again through
-// another template and sends that; the client A/B-compares the two
-// level-matched and approves the second. The owner finds the outbox in the
-// navigation.
+// page, and sends it for review. The client opens the e-mailed link to the
+// review room, confirms a safe level, plays, sees the stored waveform drawn,
+// clicks on it and comments at that moment of the song, and approves; a
+// further render by the engineer leaves the approval standing; version 2 is
+// sent after the warning; the client hears both versions and switches. The
+// owner finds the outbox in the navigation.
 import { randomUUID } from "node:crypto";
 import { mkdirSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
 import os from "node:os";
@@ -77,7 +77,7 @@ async function reviewLinkFromMail(to: string, needle: string, seen: Set<string>)
     )
     .toBe(true);
   seen.add(found!.id);
-  const link = /https?:\/\/\S+\/review\?render=[0-9a-f-]{36}/.exec(found!.text)?.[0];
+  const link = /https?:\/\/\S+\/room\?track=[0-9a-f-]{36}&render=[0-9a-f-]{36}/.exec(found!.text)?.[0];
   expect(link, "the e-mail carries a review link").toBeTruthy();
   // The link's host is TIDEMARK_PUBLIC_URL; the test follows it on the server under test.
   const url = new URL(link!);
@@ -140,7 +140,7 @@ async function trackWithMix(page: Page): Promise<string> {
 async function renderPreview(page: Page, template: string): Promise<string> {
   await page.goto(`/releases/${releaseId}/tracks/${trackId}`);
   await page.getByRole("link", { name: "New render" }).click();
-  await page.getByLabel("Chain").selectOption({ label: `${template} · rev 1 (template)` });
+  await page.getByLabel("Chain", { exact: true }).selectOption({ label: `${template} · rev 1 (template)` });
   await page.getByLabel("From … to …").check();
   await page.getByLabel("Start (s)").fill("1");
   await page.getByLabel("End (s)").fill("5");
@@ -158,14 +158,22 @@ async function outputLufs(page: Page, renderId: string): Promise<number> {
   return body.render.outputAnalysis.integratedLufs;
 }
 
-async function sendFromRenderPage(page: Page, renderId: string, message: string) {
+async function sendFromRenderPage(page: Page, renderId: string, message: string, options: { expectWarning?: boolean } = {}) {
   await page.goto(`/releases/${releaseId}/tracks/${trackId}/renders/${renderId}`);
   await page.getByLabel(/Message to/).fill(message);
+  const warning = page.getByTestId("send-warning");
+  if (options.expectWarning) {
+    // The client approved another version: the engineer is told, and confirms.
+    await expect(warning).toContainText("asks them to review again");
+    await warning.getByLabel("Ask the client to review again").check();
+  } else {
+    await expect(warning).toHaveCount(0);
+  }
   await page.getByRole("button", { name: "Send for review" }).click();
   await expect(page.getByRole("status").filter({ hasText: "Sent." })).toBeVisible();
 }
 
-test("an engineer sends a render; the client comments, asks for changes, then approves the next", async ({ browser }, testInfo) => {
+test("an engineer sends a preview; the client plays it in the room, comments at a moment, approves; version 2 keeps the approval shown until heard", async ({ browser }, testInfo) => {
   test.setTimeout(300_000);
   const seen = new Set<string>();
   const engineer = await newPage(browser, ENGINEER);
@@ -204,83 +212,106 @@ test("an engineer sends a render; the client comments, asks for changes, then ap
   const firstLink = await reviewLinkFromMail(CLIENT, `First pass of ${trackTitle}.`, seen);
   expect(firstLink).toContain(`render=${first}`);
 
-  // The client's release page lists what was sent, with the track's state.
+  // The client's release page lists what was sent and leads to the room; a compare address leads there too.
   await client.goto(`/releases/${releaseId}`);
   await expect(client.locator(`[data-sent-render="${first}"]`)).toContainText(`First pass of ${trackTitle}.`);
   await expect(client.getByRole("row", { name: new RegExp(trackTitle) })).toContainText("Sent for review");
+  await client.goto(`/releases/${releaseId}/tracks/${trackId}/compare`);
+  await expect(client).toHaveURL(new RegExp(`/releases/${releaseId}/room\\?track=${trackId}`));
 
+  await client.setViewportSize({ width: 1280, height: 900 });
   await client.goto(firstLink);
-  await expect(client.getByTestId("monitoring-reminder")).toBeVisible();
-  await expect(client.getByTestId("review-status")).toHaveText("Sent for review");
-  const audio = client.getByTestId("review-audio");
-  await expect.poll(() => audio.evaluate((a: HTMLAudioElement) => a.readyState), { timeout: 15_000 }).toBeGreaterThanOrEqual(1);
-  await audio.evaluate((a: HTMLAudioElement) => {
-    a.muted = true; // The test machine has no one listening; the element still plays.
-    return a.play();
-  });
-  await expect.poll(() => audio.evaluate((a: HTMLAudioElement) => a.currentTime), { timeout: 10_000 }).toBeGreaterThan(0);
-  await audio.evaluate((a: HTMLAudioElement) => a.pause());
-
-  // A click halfway along the timeline of the 1–5 s preview picks about 3 s on the mix's time axis.
-  const timeline = client.getByTestId("review-timeline");
-  const box = (await timeline.boundingBox())!;
-  await timeline.click({ position: { x: box.width / 2, y: box.height / 2 } });
-  await expect(client.getByLabel(/^At/)).toHaveValue(/^0:0[23]/);
-  await client.getByRole("textbox", { name: "Comment" }).fill("The swell here feels squeezed.");
-  await client.getByRole("button", { name: "Add comment" }).click();
-  await expect(client.locator("[data-comment]").filter({ hasText: "The swell here feels squeezed." })).toBeVisible();
-  await client.getByLabel("What should change?").fill("Let the swell breathe a little more.");
-  await client.getByRole("button", { name: "Ask for changes" }).click();
-  await expect(client.getByTestId("review-status")).toHaveText("Changes asked");
-  await shot(client, "review-page-changes-asked", testInfo);
-
-  // The engineer sees the marker; clicking it moves playback to the comment's time.
-  await engineer.goto(`/releases/${releaseId}/tracks/${trackId}/review?render=${first}`);
-  const marker = engineer.locator("[data-comment-marker]");
-  await expect(marker).toHaveCount(1);
-  const markerTimeS = Number(await marker.getAttribute("data-time-s"));
-  expect(markerTimeS).toBeGreaterThan(2);
-  expect(markerTimeS).toBeLessThan(4);
-  const engineerAudio = engineer.getByTestId("review-audio");
-  await expect.poll(() => engineerAudio.evaluate((a: HTMLAudioElement) => a.readyState), { timeout: 15_000 }).toBeGreaterThanOrEqual(1);
-  await engineerAudio.evaluate((a: HTMLAudioElement) => {
-    a.muted = true;
-  });
-  await marker.click();
-  await expect.poll(() => engineerAudio.evaluate((a: HTMLAudioElement) => a.currentTime), { timeout: 10_000 }).toBeGreaterThanOrEqual(markerTimeS - 0.05);
-  await engineerAudio.evaluate((a: HTMLAudioElement) => a.pause());
-
-  // Renders again, through another template, and sends that with a note.
-  const second = await renderPreview(engineer, "Open and loud");
-  await sendFromRenderPage(engineer, second, `Second pass of ${trackTitle}.`);
-  const secondLink = await reviewLinkFromMail(CLIENT, `Second pass of ${trackTitle}.`, seen);
-
-  // The client compares the two sent renders, level-matched by the worker's measurements, and switches A/B.
-  const [secondLufs, firstLufs] = [await outputLufs(engineer, second), await outputLufs(engineer, first)];
-  const differenceDb = secondLufs - firstLufs;
-  await client.goto(`/releases/${releaseId}/tracks/${trackId}/compare?a=render:${second}&b=render:${first}`);
   await expect(client.getByTestId("monitoring-reminder").first()).toBeVisible();
+  await expect(client.getByTestId("review-status")).toHaveText("Sent for review (version 1)");
+  await expect(client.getByTestId("engineer-message")).toContainText(`First pass of ${trackTitle}.`);
+  await expect(client.getByTestId("room-version-name")).toHaveText(`Preview of ${trackTitle}, version 1`);
   const player = client.getByTestId("ab-player");
   await expect(player).toHaveAttribute("data-state", "ready", { timeout: 30_000 });
+  // The song's time: the preview of 1–5 s starts at 0:01.0, in the clock and the "At" field's hint.
+  await expect(client.getByTestId("player-clock")).toHaveText(/^0:01\.0 \/ 0:05\.0$/);
+  await expect(client.getByTestId("comment-time")).toHaveAttribute("placeholder", "0:01.0");
+  // The waveform is drawn from the peaks the worker stored, and is not blank.
+  const canvas = player.getByTestId("waveform");
+  await expect(canvas).toHaveAttribute("data-peaks", "stored");
+  const inked = await canvas.evaluate((c: HTMLCanvasElement) => {
+    const g = c.getContext("2d")!;
+    const { data } = g.getImageData(0, 0, c.width, c.height);
+    const ground = data.slice(0, 4).join();
+    let differing = 0;
+    for (let i = 0; i < data.length; i += 4) if (data.slice(i, i + 4).join() !== ground) differing++;
+    return differing / (data.length / 4);
+  });
+  expect(inked, "share of the canvas drawn in another colour than its ground").toBeGreaterThan(0.05);
+
+  // Play: the safe-level confirmation first, then the clock runs.
+  await player.getByRole("button", { name: "Play" }).click();
+  await expect(client.getByTestId("monitoring-notice")).toBeVisible();
+  await client.getByRole("button", { name: "My level is safe — play" }).click();
+  await expect(player).toHaveAttribute("data-playing", "true");
+  await expect.poll(async () => Number(await player.getAttribute("data-position-s")), { timeout: 10_000 }).toBeGreaterThan(1.05);
+  await player.getByRole("button", { name: "Pause" }).click();
+
+  // A click at 60 % of the waveform of the 1–5 s preview is 3.4 s into the song: the "At" field says so (within 0.1 s).
+  const waveBox = (await canvas.boundingBox())!;
+  await canvas.click({ position: { x: waveBox.width * 0.6, y: waveBox.height / 2 } });
+  const clickedS = 1 + 4 * (Math.round(waveBox.width * 0.6) / waveBox.width);
+  const at = await client.getByTestId("comment-time").inputValue();
+  const [, m, sec] = /^(\d+):(\d+(?:\.\d+)?)$/.exec(at)!;
+  expect(Math.abs(Number(m) * 60 + Number(sec) - clickedS)).toBeLessThanOrEqual(0.1);
+  await client.getByRole("textbox", { name: "Comment" }).fill("The swell here feels squeezed.");
+  await client.getByRole("button", { name: "Add comment" }).click();
+  const thread = client.locator("[data-comment]").filter({ hasText: "The swell here feels squeezed." });
+  await expect(thread).toBeVisible();
+  const marker = player.locator("[data-comment-marker]");
+  await expect(marker).toHaveCount(1);
+  expect(Math.abs(Number(await marker.getAttribute("data-time-s")) - clickedS)).toBeLessThanOrEqual(0.1);
+  // The comment's time plays from there (the level was confirmed in this session).
+  await expect(player).toHaveAttribute("data-state", "ready", { timeout: 30_000 });
+  await thread.getByRole("button", { name: at }).click();
+  await expect(player).toHaveAttribute("data-playing", "true");
+  expect(Number(await player.getAttribute("data-position-s"))).toBeGreaterThanOrEqual(clickedS - 0.2);
+  await player.getByRole("button", { name: "Pause" }).click();
+  await shot(client, "review-room-1280", testInfo);
+
+  await expect(client.getByText("You approve this master. The final files are made from exactly these settings.")).toBeVisible();
+  await client.getByRole("button", { name: "Approve", exact: true }).click();
+  await expect(client.getByTestId("review-status")).toHaveText("Approved: version 1");
+
+  // The engineer renders another preview: the client's approval still stands.
+  const second = await renderPreview(engineer, "Open and loud");
+  await client.reload();
+  await expect(client.getByTestId("review-status")).toHaveText("Approved: version 1");
+
+  // Version 2 goes out after the warning; the client hears both and switches, at matched loudness.
+  await sendFromRenderPage(engineer, second, `Second pass of ${trackTitle}.`, { expectWarning: true });
+  const secondLink = await reviewLinkFromMail(CLIENT, `Second pass of ${trackTitle}.`, seen);
+  const [secondLufs, firstLufs] = [await outputLufs(engineer, second), await outputLufs(engineer, first)];
+  const differenceDb = secondLufs - firstLufs;
+  await client.goto(secondLink);
+  await expect(client.getByTestId("review-status")).toHaveText("Sent for review (version 2) · approved: version 1");
+  await expect(client.getByTestId("room-version-name")).toHaveText(`Preview of ${trackTitle}, version 2`);
+  await expect(player).toHaveAttribute("data-state", "ready", { timeout: 30_000 });
+  const versions = player.getByRole("group", { name: "Version" });
+  await expect(versions.getByRole("button")).toHaveText(["This version", "The previous version"]);
   await expect(player).toHaveAttribute("data-active-source", "A");
-  // The louder of the two is turned down by the difference of integrated loudness; the quieter plays as it is.
   await expect.poll(async () => Number(await player.getAttribute("data-match-gain-db")), { timeout: 10_000 }).toBeCloseTo(differenceDb > 0 ? -differenceDb : 0, 1);
-  await player.getByRole("group", { name: "Source" }).getByRole("button").nth(1).click();
+  await versions.getByRole("button", { name: "The previous version" }).click();
   await expect(player).toHaveAttribute("data-active-source", "B");
   expect(Number(await player.getAttribute("data-match-gain-db"))).toBeCloseTo(differenceDb < 0 ? differenceDb : 0, 1);
-  // A client hears renders only: no mix among the sources.
-  await expect(client.locator("select[name=b] option[value^='mix:']")).toHaveCount(0);
-  await shot(client, "compare-page-client", testInfo);
+  // Nothing of the studio's: no chain or mix file names on the client's page.
+  await expect(client.locator("body")).not.toContainText("Open and loud");
+  await expect(client.locator("body")).not.toContainText("review-run.wav");
+  await shot(client, "review-room-version-2-1280", testInfo);
 
-  await client.goto(secondLink);
-  await expect(client.getByTestId("review-status")).toHaveText("Sent for review");
-  await client.getByRole("button", { name: "Approve this master" }).click();
-  await expect(client.getByTestId("review-status")).toHaveText("Approved");
-  await expect(client.getByText("This master is approved.")).toBeVisible();
-  await shot(client, "review-page-approved", testInfo);
+  // At phone width the room does not scroll sideways, once its layout has settled.
+  await client.setViewportSize({ width: 375, height: 800 });
+  await expect(player).toHaveAttribute("data-state", "ready");
+  await expect.poll(() => client.evaluate(() => document.documentElement.scrollWidth), { timeout: 5_000 }).toBeLessThanOrEqual(375);
+  await shot(client, "review-room-375", testInfo);
+  await client.setViewportSize({ width: 1280, height: 900 });
 
   await client.goto(`/releases/${releaseId}`);
-  await expect(client.getByRole("row", { name: new RegExp(trackTitle) })).toContainText("Approved");
+  await expect(client.getByRole("row", { name: new RegExp(trackTitle) })).toContainText("Sent for review");
 });
 
 test("the owner finds the outbox in the navigation, with the review mail the fake server caught", async ({ browser }) => {

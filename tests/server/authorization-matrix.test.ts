@@ -2,7 +2,7 @@
 // home for pages meant for the signed-out), against the real database.
 // Route modules are called directly with a Request carrying a session cookie.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { createFixture, destroyFixture, outcomeOf, PERSONAS, requestAs, type Fixture, type Outcome, type Persona } from "./fixtures.ts";
+import { cookieFor, createFixture, destroyFixture, outcomeOf, PERSONAS, requestAs, type Fixture, type Outcome, type Persona } from "./fixtures.ts";
 import { createInvitation } from "../../app/models/invitation.server.ts";
 import routes from "../../app/routes.ts";
 import * as signIn from "../../app/routes/sign-in.tsx";
@@ -48,8 +48,11 @@ import * as renderPage from "../../app/routes/render.tsx";
 import * as renderProgress from "../../app/routes/render-progress.ts";
 import * as downloadRender from "../../app/routes/download.render.ts";
 import * as renderAudio from "../../app/routes/render-audio.tsx";
+import * as referenceUpload from "../../app/routes/reference-upload.ts";
+import * as referenceAudio from "../../app/routes/reference-audio.ts";
 import * as compare from "../../app/routes/compare.tsx";
 import * as review from "../../app/routes/review.tsx";
+import * as reviewRoom from "../../app/routes/review-room.tsx";
 import * as paymentsWebhook from "../../app/routes/api.payments.webhook.ts";
 import * as releasePackage from "../../app/routes/release-package.ts";
 import * as loudnessReport from "../../app/routes/release-loudness-report.ts";
@@ -77,6 +80,17 @@ type Handler = (args: { request: Request; params: Record<string, string>; contex
 type Case = { route: string; file: string; kind: "loader" | "action"; handler: Handler; path: (f: Fixture) => string; params?: (f: Fixture) => Record<string, string>; form?: Record<string, string> | (() => Record<string, string>); expected: Expect };
 
 let fixture: Fixture;
+
+/** Signing out ends the persona's server-side session; the rest of the matrix gets a fresh one. */
+const signOutKeepingFixture: Handler = async (args) => {
+  const result = await (signOut.action as Handler)(args);
+  for (const persona of PERSONAS) {
+    if (persona === "signedOut") continue;
+    const user = fixture.users[persona];
+    user.cookie = await cookieFor(user.id, persona === "otherStudio" ? fixture.otherStudioId : fixture.studioId);
+  }
+  return result;
+};
 let invitationToken: string;
 let trackChainId: string;
 let apiRenderId: string;
@@ -115,7 +129,7 @@ const cases: Case[] = [
   { route: "/sign-in", file: "routes/sign-in.tsx", kind: "loader", handler: signIn.loader as Handler, path: () => "/sign-in", expected: signedOutOnly },
   { route: "/sign-in", file: "routes/sign-in.tsx", kind: "action", handler: signIn.action as Handler, path: () => "/sign-in", form: { email: "" }, expected: everyone("allowed") },
   { route: "/sign-out", file: "routes/sign-out.tsx", kind: "loader", handler: signOut.loader as Handler, path: () => "/sign-out", expected: everyone("home") },
-  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOut.action as Handler, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
+  { route: "/sign-out", file: "routes/sign-out.tsx", kind: "action", handler: signOutKeepingFixture, path: () => "/sign-out", form: {}, expected: everyone("sign-in") },
   { route: "/studio", file: "routes/studio-switch.ts", kind: "loader", handler: studioSwitch.loader as Handler, path: () => "/studio", expected: everyone("home") },
   // Switching into the second studio: only its own engineer is a member there.
   { route: "/studio", file: "routes/studio-switch.ts", kind: "action", handler: studioSwitch.action as Handler, path: () => "/studio", form: () => ({ studioId: fixture.otherStudioId }), expected: { ...everyone("404"), signedOut: "sign-in", otherStudio: "home" } },
@@ -146,11 +160,19 @@ const cases: Case[] = [
   { route: "/releases/:releaseId/tracks/:trackId/chains/new", file: "routes/chain-new.tsx", kind: "action", handler: chainNew.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/chains/new`, params: trk, form: { name: "" }, expected: releaseStaff },
   { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "loader", handler: chainPage.loader as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), expected: releaseStaff },
   { route: "/chains/:chainId", file: "routes/chain.tsx", kind: "action", handler: chainPage.action as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), form: { params: "{" }, expected: releaseStaff },
+  // The desk on a mix of the chain's track (the loader reads its analysis for the default region).
+  { route: "/chains/:chainId?mix=", file: "routes/chain.tsx", kind: "loader", handler: chainPage.loader as Handler, path: () => `/chains/${trackChainId}?mix=${stored.mixId}`, params: () => ({ chainId: trackChainId }), expected: releaseStaff },
+  // A render from the desk without a kind: staff get the 400 with field errors; nothing is saved or queued.
+  { route: "/chains/:chainId (render)", file: "routes/chain.tsx", kind: "action", handler: chainPage.action as Handler, path: () => `/chains/${trackChainId}`, params: () => ({ chainId: trackChainId }), form: () => ({ intent: "render", params: JSON.stringify({ stages: [] }), mixId: stored.mixId }), expected: releaseStaff },
   { route: "/templates", file: "routes/templates.tsx", kind: "loader", handler: templates.loader as Handler, path: () => "/templates", expected: staff },
   { route: "/templates", file: "routes/templates.tsx", kind: "action", handler: templates.action as Handler, path: () => "/templates", form: { name: "" }, expected: staff },
   { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "loader", handler: settingsTokens.loader as Handler, path: () => "/settings/tokens", expected: signedIn },
   { route: "/settings/tokens", file: "routes/settings-tokens.tsx", kind: "action", handler: settingsTokens.action as Handler, path: () => "/settings/tokens", form: { intent: "create", name: "" }, expected: signedIn },
   { route: "/releases/:releaseId/tracks/:trackId", file: "routes/track.tsx", kind: "action", handler: track.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}`, params: trk, form: {}, expected: releaseStaff },
+  // References are staff-only: a non-WAV body is refused with its message (allowed); everyone else meets a 404.
+  { route: "/releases/:releaseId/references", file: "routes/reference-upload.ts", kind: "action", handler: referenceUpload.action as Handler, path: (f) => `/releases/${f.releaseId}/references`, params: rel, form: {}, expected: releaseStaff },
+  // An unknown reference: 404 even for the release's staff; signed out, the sign-in page.
+  { route: "/releases/:releaseId/references/:referenceId/audio (unknown)", file: "routes/reference-audio.ts", kind: "loader", handler: referenceAudio.loader as Handler, path: (f) => `/releases/${f.releaseId}/references/00000000-0000-4000-8000-000000000000/audio`, params: (f) => ({ releaseId: f.releaseId, referenceId: "00000000-0000-4000-8000-000000000000" }), expected: { ...everyone("404"), signedOut: "sign-in" } },
   { route: "…/tracks/:trackId/mixes", file: "routes/mix-upload.ts", kind: "action", handler: mixUpload.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/mixes`, params: trk, form: {}, expected: releaseStaff },
   { route: "…/mixes/:mixId/download", file: "routes/download.mix.ts", kind: "loader", handler: downloadMix.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/mixes/${stored.mixId}/download`, params: (f) => ({ ...trk(f), mixId: stored.mixId }), expected: releaseStaff },
   { route: "…/renders/new", file: "routes/render-new.tsx", kind: "loader", handler: renderNew.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/renders/new`, params: trk, expected: releaseStaff },
@@ -199,8 +221,10 @@ const cases: Case[] = [
   { route: "…/tracks/:trackId/compare (not sent)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
   { route: "…/tracks/:trackId/compare (sent for review)", file: "routes/compare.tsx", kind: "action", handler: compare.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/compare`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
   { route: "…/tracks/:trackId/review", file: "routes/review.tsx", kind: "loader", handler: review.loader as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, expected: releaseViewers },
-  { route: "…/tracks/:trackId/review (not sent)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
-  { route: "…/tracks/:trackId/review (sent for review)", file: "routes/review.tsx", kind: "action", handler: review.action as Handler, path: (f) => `/releases/${f.releaseId}/tracks/${f.trackId}/review`, params: trk, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
+  // The review room: every viewer of the release; its steps act only on what the viewer may hear.
+  { route: "/releases/:releaseId/room", file: "routes/review-room.tsx", kind: "loader", handler: reviewRoom.loader as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, expected: releaseViewers },
+  { route: "/releases/:releaseId/room (not sent)", file: "routes/review-room.tsx", kind: "action", handler: reviewRoom.action as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, form: () => ({ intent: "comment", renderId: stored.renderId, time: "" }), expected: releaseStaff },
+  { route: "/releases/:releaseId/room (sent for review)", file: "routes/review-room.tsx", kind: "action", handler: reviewRoom.action as Handler, path: (f) => `/releases/${f.releaseId}/room?track=${f.trackId}`, params: rel, form: () => ({ intent: "comment", renderId: reviewed.renderId, time: "" }), expected: releaseViewers },
   // A public endpoint: the session plays no part, the signature is the credential.
   // "allowed" here means an answer that is neither a redirect nor a 404 — and
   // `answers(400)` makes sure it is the 400 for a missing signature, for everyone.
@@ -304,10 +328,13 @@ describe("authorisation matrix", () => {
     expect(new Set(staffData.releases.map((r) => r.id))).toEqual(new Set([fixture.releaseId, fixture.otherReleaseId, paidReleaseId]));
   });
 
-  it("lists on a client's track page only the renders sent to them for review", async () => {
+  it("sends a client from the track page to the review room, which lists only the renders sent to them", async () => {
     const load = async (persona: Persona) =>
       ((await track.loader({ request: requestAs(fixture, persona, `/releases/${fixture.releaseId}/tracks/${fixture.trackId}`), params: trk(fixture), context: {} } as never)) as { renders: { id: string }[] }).renders.map((r) => r.id);
-    expect(await load("client")).toEqual([reviewed.renderId]);
+    const thrown = await load("client").catch((e: unknown) => e);
+    expect((thrown as Response).headers.get("Location")).toBe(`/releases/${fixture.releaseId}/room?track=${fixture.trackId}`);
+    const room = (await reviewRoom.loader({ request: requestAs(fixture, "client", `/releases/${fixture.releaseId}/room?track=${fixture.trackId}`), params: rel(fixture), context: {} } as never)) as Awaited<ReturnType<typeof reviewRoom.loader>>;
+    expect(room.selected?.versions.map((v) => v.renderId)).toEqual([reviewed.renderId]);
     expect(new Set(await load("engineer"))).toEqual(new Set([reviewed.renderId, stored.renderId, apiRenderId]));
   });
 

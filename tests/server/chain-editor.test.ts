@@ -26,9 +26,9 @@ async function gentleId(studioId: string) {
 }
 
 describe("studio templates", () => {
-  it("seeds three templates once, however often the seed runs", async () => {
+  it("seeds four templates once, however often the seed runs", async () => {
     expect(await seedTemplates(db, f.studioId)).toBe(0);
-    expect((await listTemplates(f.studioId)).map((t) => t.name)).toEqual(["Gentle master", "Open and loud", "Quiet reference"]);
+    expect((await listTemplates(f.studioId)).map((t) => t.name)).toEqual(["Gentle master", "Open and loud", "Quiet reference", "Warm and even"]);
   });
 
   it("has a gentle master: four bands at 90 Hz, 1 kHz, 3 kHz with ratios 1.2–2, an auto-release bus compressor and a -1 dBTP limiter", async () => {

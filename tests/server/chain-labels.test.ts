@@ -11,6 +11,14 @@ describe("chain labels", () => {
     expect(describePath("output.targetLufs", [chain])).toEqual({ where: "Output", label: "Target loudness", unit: "LUFS" });
   });
 
+  it("labels the resonance and tape stages' own fields by their stage", () => {
+    const both = { stages: [{ type: "resonance" }, { type: "tape" }, { type: "compress" }] };
+    expect(describePath("stages[0].thresholdDb", [both])).toEqual({ where: "Stage 1 (Resonance taming)", label: "Peak threshold", unit: "dB" });
+    expect(describePath("stages[0].listen", [both])).toEqual({ where: "Stage 1 (Resonance taming)", label: "Listen to", unit: "" });
+    expect(describePath("stages[1].rolloffHz", [both])).toEqual({ where: "Stage 2 (Tape colour)", label: "High-frequency loss", unit: "Hz" });
+    expect(describePath("stages[2].thresholdDb", [both]).label).toBe("Threshold");
+  });
+
   it("takes the stage type from the chain before when the stage was removed", () => {
     expect(describePath("stages[3].ceilingDbtp", [{ stages: [] }, { stages: [{}, {}, {}, { type: "limit" }] }]).where).toBe("Stage 4 (Limiter)");
   });

@@ -94,7 +94,7 @@ afterAll(async () => {
 describe("the deliver job", () => {
   it("makes every format of the approved print: format, bext loudness and ceiling", async () => {
     const formats = await releaseFormats(fixture.releaseId);
-    expect(await makeDeliveries()).toEqual({ intent: "make", errors: {}, values: {}, queued: formats.length, alreadyMade: 0, leftOut: 0 });
+    expect(await makeDeliveries()).toEqual({ intent: "make", errors: {}, values: {}, queued: formats.length, alreadyMade: 0, leftOut: 0, printsQueued: 0 });
     const jobs = await fetchJobs();
     expect(jobs).toHaveLength(formats.length);
     for (const job of jobs) {

@@ -140,7 +140,7 @@ describe("making deliveries", () => {
     ]);
     expect(leftOut[0]!.reason).toMatch(/not given a verdict/);
     expect(leftOut[1]!.reason).toMatch(/asked for changes.*“Less bright, please”/);
-    expect(leftOut[2]!.reason).toMatch(/no master is under review/);
+    expect(leftOut[2]!.reason).toMatch(/nothing has been sent/);
 
     for (const id of deliveryIds) await makeDelivery(id, { storage: store });
     const latest = await latestDeliveries(fixture.releaseId);
@@ -149,7 +149,7 @@ describe("making deliveries", () => {
     await db("tracks").whereIn("id", [sent.id, changes.id, bare.id]).delete();
   });
 
-  it("delivers an approved preview from the print of the same mix and chain, and leaves it out without one", async () => {
+  it("delivers an approved preview from the print of the same mix and chain, and renders that print when there is none", async () => {
     const [track] = await db("tracks").insert({ release_id: fixture.releaseId, position: 5, title: "Preview approved" }).returning("id");
     const print = await storedPrint(0.3, track.id);
     const source = await db("renders").where({ id: print }).first();
@@ -165,8 +165,21 @@ describe("making deliveries", () => {
     // A different loudness target is a different master: no print stands for the preview.
     await db("renders").where({ id: print }).update({ target_lufs: -14 });
     const without = (await releaseDeliveryPlan(fixture.releaseId)).find((p) => p.trackId === track.id)!;
-    expect(without).toMatchObject({ review: "approved", sourceRenderId: null });
-    expect(without.reason).toMatch(/Approved as a preview/);
+    expect(without).toMatchObject({ review: "approved", sourceRenderId: null, reason: null, printInProgressId: null });
+    expect(without.printRecipe).toEqual({ mixId: source.mix_id, chainRevisionId: source.chain_revision_id, targetLufs: null });
+    // Making the deliveries renders that print (exactly the approved recipe); the track's files wait for it.
+    const made = await queueReleaseDeliveries(fixture.releaseId);
+    expect(made.printsQueued).toBe(1);
+    const newPrint = await db("renders").where({ mix_id: source.mix_id, chain_revision_id: source.chain_revision_id, kind: "print" }).whereNull("target_lufs").first();
+    renderIds.push(newPrint.id);
+    expect(newPrint.state).toMatch(/queued|failed/);
+    const waiting = await db("deliveries").whereIn("id", made.waitingOnPrint);
+    expect(waiting.length).toBeGreaterThan(0);
+    expect(new Set(waiting.map((d) => d.source_render_id))).toEqual(new Set([newPrint.id]));
+    expect(made.deliveryIds).toEqual([]);
+    // A second click finds the print on its way: no second print.
+    expect((await queueReleaseDeliveries(fixture.releaseId)).printsQueued).toBe(0);
+    await db("deliveries").whereIn("id", made.waitingOnPrint).delete();
     await db("tracks").where({ id: track.id }).delete();
   });
 

@@ -253,8 +253,11 @@ describe("release page: invoice and finals", () => {
     expect((await billingAs("client")).finalsOpen).toBe(true);
   });
 
-  it("passes a refused step's message to the page", async () => {
-    const page = (await call(releasePage.loader, "owner", `/releases/${fixture.releaseId}?invoiceError=nope`)) as { billing: { invoiceError: string | null } };
-    expect(page.billing.invoiceError).toBe("nope");
+  it("says a refused step's sentence chosen from its code, never text from the query string", async () => {
+    const said = async (code: string) =>
+      ((await call(releasePage.loader, "owner", `/releases/${fixture.releaseId}?${new URLSearchParams({ invoiceError: code })}`)) as { billing: { invoiceError: string | null } }).billing.invoiceError;
+    expect(await said("not-payable")).toBe("Only a sent invoice can be paid.");
+    expect(await said("Your account is locked: call +1 555 0100")).toBe("That invoice step was refused.");
+    expect(await said("constructor")).toBe("That invoice step was refused.");
   });
 });

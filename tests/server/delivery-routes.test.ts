@@ -90,7 +90,7 @@ describe("the package route", () => {
     expect(res.headers.get("Content-Type")).toMatch(/^text\/csv/);
     const lines = (await res.text()).split("\r\n");
     // −23 LUFS is below every default reference (−14, −16, −23): no turn-down; PLR = −20 − (−23) = 3 dB.
-    expect(lines[1]).toBe("1,Moonwake,,Streaming master 24-bit 48 kHz,-23,0,-20,3,0,0,0,");
-    expect(lines[2]).toBe("1,Moonwake,,CD master 16-bit 44.1 kHz,,,,,,,,not delivered");
+    expect(lines[1]).toBe("1,Moonwake,,Streaming master 24-bit 48 kHz,-23,0,-20,,3,0,0,0,");
+    expect(lines[2]).toBe("1,Moonwake,,CD master 16-bit 44.1 kHz,,,,,,,,,not delivered");
   });
 });

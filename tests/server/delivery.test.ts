@@ -164,10 +164,10 @@ describe("the release package", () => {
 
     const csv = await readFile(join(out, "loudness-report.csv"), "utf8");
     const lines = csv.split("\r\n");
-    expect(lines[0]).toBe("Track,Title,ISRC,Format,Integrated (LUFS),Loudness range (LU),True peak (dBTP),PLR (dB),Turn-down at Streaming reference -14 LUFS (dB),Turn-down at Quiet reference -16 LUFS (dB),Warnings");
-    expect(lines).toContain('1,"Low Tide: ""Lights""/Intro?",,Streaming master 24-bit 48 kHz,-9.2,5.5,-1,8.2,4.8,6.8,');
-    expect(lines).toContain('2,"Harbour, Lights",,CD master 16-bit 44.1 kHz,-15.1,8,-2.4,12.7,0,0.9,');
-    expect(lines).toContain("10,Unfinished,,CD master 16-bit 44.1 kHz,,,,,,,not delivered");
+    expect(lines[0]).toBe("Track,Title,ISRC,Format,Integrated (LUFS),Loudness range (LU),True peak (dBTP),Reconstructed peak (dBFS),PLR (dB),Turn-down at Streaming reference -14 LUFS (dB),Turn-down at Quiet reference -16 LUFS (dB),Warnings");
+    expect(lines).toContain('1,"Low Tide: ""Lights""/Intro?",,Streaming master 24-bit 48 kHz,-9.2,5.5,-1,,8.2,4.8,6.8,');
+    expect(lines).toContain('2,"Harbour, Lights",,CD master 16-bit 44.1 kHz,-15.1,8,-2.4,,12.7,0,0.9,');
+    expect(lines).toContain("10,Unfinished,,CD master 16-bit 44.1 kHz,,,,,,,,not delivered");
     expect(lines).toHaveLength(1 + 3 * 2 + 1);
   });
 

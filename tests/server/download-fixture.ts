@@ -12,7 +12,8 @@ export type StoredRender = { mixId: string; renderId: string; mixBytes: Buffer; 
 
 export async function addStoredRender(input: { studioId: string; trackId: string; mixBytes?: Buffer; outputBytes?: Buffer }): Promise<StoredRender> {
   const mixBytes = input.mixBytes ?? randomBytes(10_000);
-  const outputBytes = input.outputBytes ?? randomBytes(20_000);
+  // A valid WAV header (16-bit mono, 44.1 kHz) over random audio: the unpaid-print stretch reads the header.
+  const outputBytes = input.outputBytes ?? wavHeaderOver(randomBytes(20_000));
   const { mixId, storageKey } = newMixKey(input.trackId);
   await storage().put(storageKey, mixBytes, { contentType: "audio/wav" });
   await createMix({
@@ -51,4 +52,21 @@ export async function addStoredRender(input: { studioId: string; trackId: string
       await storage().delete(outputKey);
     },
   };
+}
+
+function wavHeaderOver(data: Buffer): Buffer {
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0);
+  header.writeUInt32LE(36 + data.length, 4);
+  header.write("WAVEfmt ", 8);
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(1, 20);
+  header.writeUInt16LE(1, 22);
+  header.writeUInt32LE(44_100, 24);
+  header.writeUInt32LE(88_200, 28);
+  header.writeUInt16LE(2, 32);
+  header.writeUInt16LE(16, 34);
+  header.write("data", 36);
+  header.writeUInt32LE(data.length, 40);
+  return Buffer.concat([header, data]);
 }

@@ -8,15 +8,39 @@ import { db } from "../../app/lib/db.server.ts";
 import { contentDisposition, parseRange } from "../../app/lib/http-range.server.ts";
 import * as downloadMix from "../../app/routes/download.mix.ts";
 import * as downloadRender from "../../app/routes/download.render.ts";
+import { probeWavBytes } from "../../dsp/io/wav-reader.ts";
+import { UNPAID_STRETCH_S } from "../../app/lib/render-visibility.server.ts";
 import { createFixture, destroyFixture, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 import { addStoredRender, type StoredRender } from "./download-fixture.ts";
 
 let fixture: Fixture;
 let stored: StoredRender;
 
+/** A 16-bit mono WAV at 44.1 kHz of `seconds`, with a counting pattern for samples. */
+function wavOf(seconds: number): Buffer {
+  const frames = Math.round(seconds * 44_100);
+  const data = Buffer.alloc(frames * 2);
+  for (let i = 0; i < frames; i++) data.writeInt16LE((i % 2000) - 1000, i * 2);
+  const header = Buffer.alloc(44);
+  header.write("RIFF", 0);
+  header.writeUInt32LE(36 + data.length, 4);
+  header.write("WAVEfmt ", 8);
+  header.writeUInt32LE(16, 16);
+  header.writeUInt16LE(1, 20);
+  header.writeUInt16LE(1, 22);
+  header.writeUInt32LE(44_100, 24);
+  header.writeUInt32LE(88_200, 28);
+  header.writeUInt16LE(2, 32);
+  header.writeUInt16LE(16, 34);
+  header.write("data", 36);
+  header.writeUInt32LE(data.length, 40);
+  return Buffer.concat([header, data]);
+}
+
 beforeAll(async () => {
   fixture = await createFixture();
-  stored = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId });
+  // A real WAV longer than the unpaid stretch, so what a client hears before payment can be checked.
+  stored = await addStoredRender({ studioId: fixture.studioId, trackId: fixture.trackId, outputBytes: wavOf(UNPAID_STRETCH_S + 5) });
 });
 afterAll(async () => {
   await stored?.cleanup();
@@ -74,7 +98,7 @@ describe("render download", () => {
     const disposition = response.headers.get("Content-Disposition")!;
     expect(disposition).toMatch(/^attachment; filename=".+\.wav"; filename\*=UTF-8''.+\.wav$/);
     expect(disposition).toContain("v1 print");
-    expect(await bytesOf(response)).toEqual(stored.outputBytes);
+    expect((await bytesOf(response)).equals(stored.outputBytes)).toBe(true);
   });
 
   it("answers a range with 206 and exactly those bytes", async () => {
@@ -109,6 +133,21 @@ describe("render download", () => {
     const inline = await fetchRender("client", "bytes=0-1", "?inline=1");
     expect(inline.status).toBe(206);
     expect(inline.headers.get("Content-Disposition")).toMatch(/^inline; /);
+    // Unpaid: the player gets the print's first stretch as a WAV of its own, never the whole print.
+    const stretchBytes = 44 + UNPAID_STRETCH_S * 44_100 * 2;
+    expect(inline.headers.get("Content-Range")).toBe(`bytes 0-1/${stretchBytes}`);
+    const whole = await fetchRender("client", undefined, "?inline=1");
+    const heard = await bytesOf(whole);
+    expect(heard.length).toBe(stretchBytes);
+    expect(heard.length).toBeLessThan(stored.outputBytes.length);
+    expect((await probeWavBytes(heard)).frames).toBe(UNPAID_STRETCH_S * 44_100);
+    expect(heard.subarray(44).equals(stored.outputBytes.subarray(44, stretchBytes))).toBe(true);
+    // A range across the header's end and one at the stretch's end are the same bytes.
+    const across = await bytesOf(await fetchRender("client", "bytes=40-49", "?inline=1"));
+    expect(across).toEqual(heard.subarray(40, 50));
+    expect((await fetchRender("client", `bytes=${stretchBytes}-`, "?inline=1")).status).toBe(416);
+    // Staff hear it whole.
+    expect((await bytesOf(await fetchRender("engineer", undefined, "?inline=1"))).length).toBe(stored.outputBytes.length);
     const locked = await fetchRender("client");
     expect(locked.status).toBe(403);
     expect(await locked.text()).toBe("The final files unlock once the invoice is paid.");
@@ -116,7 +155,8 @@ describe("render download", () => {
     await db("invoices").insert({ studio_id: fixture.studioId, release_id: fixture.releaseId, number: `D-${fixture.tag}`, currency: "EUR", state: "paid", total_cents: 100, sent_at: db.fn.now(), paid_at: db.fn.now() });
     const paid = await fetchRender("client");
     expect(paid.status).toBe(200);
-    expect(await bytesOf(paid)).toEqual(stored.outputBytes);
+    expect((await bytesOf(paid)).equals(stored.outputBytes)).toBe(true);
+    expect((await bytesOf(await fetchRender("client", undefined, "?inline=1"))).length).toBe(stored.outputBytes.length);
   });
 
   it("gives the client a preview sent for review before payment", async () => {

@@ -5,7 +5,7 @@
 import { randomUUID } from "node:crypto";
 import bcrypt from "bcryptjs";
 import { db } from "../../app/lib/db.server.ts";
-import { sessionStorage } from "../../app/lib/session.server.ts";
+import { startSession } from "../../app/lib/session.server.ts";
 
 export const FIXTURE_PASSWORD = "fixture-password-1";
 // Cost 4 keeps fixtures fast; the app's own hashing (cost 10) is tested where it matters.
@@ -33,10 +33,8 @@ async function makeUser(tag: string, role: string) {
 }
 
 export async function cookieFor(userId: string, studioId: string): Promise<string> {
-  const session = await sessionStorage.getSession();
-  session.set("userId", userId);
-  session.set("studioId", studioId);
-  const setCookie = await sessionStorage.commitSession(session);
+  // A real server-side session, as signing in makes.
+  const setCookie = await startSession(userId, studioId);
   return setCookie.split(";")[0];
 }
 

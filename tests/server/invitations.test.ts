@@ -3,7 +3,9 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import bcrypt from "bcryptjs";
 import { db } from "../../app/lib/db.server.ts";
-import { sessionStorage } from "../../app/lib/session.server.ts";
+import { readSession } from "../../app/lib/session.server.ts";
+import { deliverPending } from "../../app/lib/mail/mailer.server.ts";
+import type { MailTransport } from "../../app/lib/mail/transport.server.ts";
 import * as team from "../../app/routes/team.tsx";
 import * as invitation from "../../app/routes/invitation.tsx";
 import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture } from "./fixtures.ts";
@@ -25,6 +27,27 @@ function anonymous(path: string, form?: Record<string, string>) {
 }
 
 describe("invitations", () => {
+  it("keeps the link out of the stored e-mail: sealed beside it until sent, then gone", async () => {
+    const email = `sealed-${fixture.tag}@fixture.test`;
+    const created = await invite({ email, role: "engineer" });
+    const token = new URL(created.body.inviteLink ?? "").pathname.split("/").pop() as string;
+    const row = await db("outbox_emails").first().where({ to_address: email });
+    expect(row.text).not.toContain(token);
+    expect(row.html ?? "").not.toContain(token);
+    expect(row.secret_sealed).not.toContain(token);
+    expect(row.text).toContain("[[tidemark-secret]]");
+    const sent: { text: string; html?: string }[] = [];
+    const transport = { sendMail: async (message: { text: string; html?: string }) => void sent.push(message) } as unknown as MailTransport;
+    expect((await deliverPending(db, { transport, from: "Tidemark <studio@tidemark.test>", ids: [row.id] })).sent).toEqual([row.id]);
+    // The invitee gets the link; the stored copy keeps only the placeholder.
+    expect(sent[0].text).toContain(`/invitations/${token}`);
+    expect(sent[0].html ?? "").toContain(`/invitations/${token}`);
+    const after = await db("outbox_emails").first().where({ id: row.id });
+    expect(after.secret_sealed).toBeNull();
+    expect(JSON.stringify(after)).not.toContain(token);
+    await db("outbox_emails").where({ id: row.id }).delete();
+  });
+
   it("needs a client for a client invitation and refuses an e-mail that has an account", async () => {
     expect((await invite({ email: `c-${fixture.tag}@fixture.test`, role: "client", clientId: "" })).body.errors).toEqual({ clientId: "Choose which client this person belongs to" });
     const taken = await invite({ email: fixture.users.engineer.email.toUpperCase(), role: "engineer" });
@@ -58,9 +81,9 @@ describe("invitations", () => {
     expect(accepted).toBeInstanceOf(Response);
     const response = accepted as Response;
     expect(response.headers.get("Location")).toBe("/");
-    const session = await sessionStorage.getSession(response.headers.get("Set-Cookie"));
+    const session = await readSession((response.headers.get("Set-Cookie") ?? "").split(";")[0]);
     const user = await db("users").first("id", "name", "password_hash").whereRaw("lower(email) = ?", [email]);
-    expect(session.get("userId")).toBe(user.id);
+    expect(session?.userId).toBe(user.id);
     expect(user.name).toBe("Nova Client");
     expect(await bcrypt.compare("long-enough-1", user.password_hash)).toBe(true);
     expect(bcrypt.getRounds(user.password_hash)).toBeGreaterThanOrEqual(10);

@@ -8,7 +8,7 @@ import { db } from "../../app/lib/db.server.ts";
 import { storage } from "../../app/lib/storage/storage.server.ts";
 import { action, loader } from "../../app/routes/compare.tsx";
 import { loader as audioLoader } from "../../app/routes/render-audio.tsx";
-import { loader as reviewLoader } from "../../app/routes/review.tsx";
+import { loader as reviewLoader } from "../../app/routes/review-room.tsx";
 import { createFixture, dataOf, destroyFixture, outcomeOf, requestAs, type Fixture, type Persona } from "./fixtures.ts";
 
 let f: Fixture;
@@ -16,7 +16,26 @@ let mixId: string;
 let mix2Id: string;
 const keys: string[] = [];
 const renders: Record<"preview" | "print", string> = { preview: "", print: "" };
-const wavBytes = Uint8Array.from({ length: 4000 }, (_, i) => i % 251);
+// A small but real WAV (16-bit stereo 48 kHz): an unpaid print reaches a client as a stretch cut from its header.
+const wavBytes = (() => {
+  const data = Uint8Array.from({ length: 4000 }, (_, i) => i % 251);
+  const out = new Uint8Array(44 + data.length);
+  const v = new DataView(out.buffer);
+  out.set([0x52, 0x49, 0x46, 0x46], 0);
+  v.setUint32(4, 36 + data.length, true);
+  out.set([0x57, 0x41, 0x56, 0x45, 0x66, 0x6d, 0x74, 0x20], 8);
+  v.setUint32(16, 16, true);
+  v.setUint16(20, 1, true);
+  v.setUint16(22, 2, true);
+  v.setUint32(24, 48_000, true);
+  v.setUint32(28, 48_000 * 4, true);
+  v.setUint16(32, 4, true);
+  v.setUint16(34, 16, true);
+  out.set([0x64, 0x61, 0x74, 0x61], 36);
+  v.setUint32(40, data.length, true);
+  out.set(data, 44);
+  return out;
+})();
 
 async function makeRender(kind: "preview" | "print", params: unknown, traces: unknown) {
   const [chain] = await db("chains").insert({ studio_id: f.studioId, track_id: f.trackId, name: `Chain ${kind}` }).returning("id");
@@ -47,6 +66,10 @@ async function makeRender(kind: "preview" | "print", params: unknown, traces: un
 const path = (query = "") => `/releases/${f.releaseId}/tracks/${f.trackId}/compare${query}`;
 const routeParams = () => ({ releaseId: f.releaseId, trackId: f.trackId });
 const load = (persona: Persona, query = "") => loader({ request: requestAs(f, persona, path(query)), params: routeParams(), context: {} } as never);
+const room = (persona: Persona, query = "") =>
+  reviewLoader({ request: requestAs(f, persona, `/releases/${f.releaseId}/room?track=${f.trackId}${query}`), params: { releaseId: f.releaseId }, context: {} } as never) as Promise<Awaited<ReturnType<typeof reviewLoader>>>;
+/** Where a page sent the viewer (a thrown redirect), or null. */
+const redirectedTo = (run: () => Promise<unknown>) => run().then(() => null, (r: unknown) => (r instanceof Response ? r.headers.get("Location") : Promise.reject(r)));
 const act = (persona: Persona, form: Record<string, string>) => action({ request: requestAs(f, persona, path(), { form }), params: routeParams(), context: {} } as never);
 const audio = (persona: Persona, renderId: string, range?: string) => {
   const request = requestAs(f, persona, `/renders/${renderId}/audio`);
@@ -116,11 +139,13 @@ describe("compare page", () => {
     }
   });
 
-  it("shows a client only renders sent to them, without traces, and lets them comment and give a verdict", async () => {
+  it("sends a client to the review room, which shows only renders sent to them; they comment and give a verdict here too", async () => {
     expect(await outcomeOf(() => load("otherClient"))).toBe("404");
     expect(await outcomeOf(() => load("otherStudio"))).toBe("404");
-    const before = (await load("client")) as Awaited<ReturnType<typeof loader>>;
-    expect(before.choices).toEqual([]);
+    // The compare page is the studio's: a client is sent to the room, which always plays.
+    expect(await redirectedTo(() => load("client"))).toBe(`/releases/${f.releaseId}/room?track=${f.trackId}`);
+    const before = await room("client");
+    expect(before.tracks).toEqual([]);
     expect(await outcomeOf(() => audio("client", renders.print))).toBe("404");
 
     // The client cannot send; the engineer can.
@@ -129,13 +154,12 @@ describe("compare page", () => {
     const mail = await db("outbox_emails").where({ studio_id: f.studioId, kind: "review_request" }).first("text", "to_address");
     expect(mail.to_address).toBe(f.users.client.email);
     // The e-mailed link uses the public address, whatever host the request came in on.
-    expect(mail.text).toContain(`${publicAppUrl()}${path(`?a=${renders.print}`)}`);
+    expect(mail.text).toContain(`${publicAppUrl()}/releases/${f.releaseId}/room?track=${f.trackId}&render=${renders.print}`);
 
-    const page = (await load("client")) as Awaited<ReturnType<typeof loader>>;
-    expect(page.choices.map((c) => c.id)).toEqual([renders.print]);
+    const page = await room("client");
+    expect(page.selected?.versions.map((v) => v.renderId)).toEqual([renders.print]);
     expect((await audio("client", renders.print)).status).toBe(200);
-    expect(page.aligned).toBeNull();
-    expect(page.review.status).toBe("sent");
+    expect(page.selected?.review.status).toBe("sent");
 
     const bad = dataOf<{ error: string }>(await act("client", { intent: "comment", renderId: renders.print, time: "soon", body: "Hm" }));
     expect(bad.status).toBe(400);
@@ -147,7 +171,7 @@ describe("compare page", () => {
     const empty = dataOf<{ error: string }>(await act("client", { intent: "changes", renderId: renders.print, note: " " }));
     expect(empty).toMatchObject({ status: 409, body: { error: "Say what should change." } });
     expect(await outcomeOf(() => act("client", { intent: "approve", renderId: renders.print }))).toBe("allowed");
-    expect(((await load("client")) as Awaited<ReturnType<typeof loader>>).review.status).toBe("approved");
+    expect((await room("client")).selected?.review.status).toBe("approved");
   });
 });
 
@@ -180,11 +204,8 @@ describe("compare page with mixes", () => {
     expect(page.a?.integratedLufs).toBeNull();
     expect(page.aligned).toBeNull();
     expect(page.analyses.a).toBeNull();
-    const client = (await load("client", `?a=mix:${mixId}`)) as Awaited<ReturnType<typeof loader>>;
-    expect(client.choices.every((c) => c.type === "render")).toBe(true);
-    expect(client.a?.type).toBe("render");
-    // The client does not see the studio's chain names: a version is told by when it was finished.
-    expect(client.a?.label).toMatch(/^Print · mix v1 · \d{4}-\d\d-\d\d \d\d:\d\d UTC$/);
+    // A client asking for a mix lands in the room, which has renders sent to them only.
+    expect(await redirectedTo(() => load("client", `?a=mix:${mixId}`))).toBe(`/releases/${f.releaseId}/room?track=${f.trackId}`);
     // A bare id (the e-mailed links) still names a render; a malformed key is ignored.
     const bare = (await load("engineer", `?a=${renders.print}&b=nonsense`)) as Awaited<ReturnType<typeof loader>>;
     expect([bare.a?.key, bare.b?.key]).toEqual([`render:${renders.print}`, `mix:${mixId}`]);
@@ -236,12 +257,14 @@ describe("compare actions: ids and who may act", () => {
     expect(await outcomeOf(() => act("client", { intent: "reopen", commentId: shared.id }))).toBe("allowed");
     expect((await db("comments").where({ id: shared.id }).first("resolved_at")).resolved_at).toBeNull();
     // Once the preview is sent too, its thread is the client's as well, and the review page links the A/B of the two sent versions.
-    expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.preview }))).toBe("allowed");
+    // The client approved the print: sending another master asks to review again, once confirmed.
+    expect(dataOf<{ error: string }>(await act("engineer", { intent: "send", renderId: renders.preview }))).toMatchObject({ status: 409, body: { error: expect.stringMatching(/review again/) } });
+    expect(await outcomeOf(() => act("engineer", { intent: "send", renderId: renders.preview, confirmNewReview: "yes" }))).toBe("allowed");
     expect(await outcomeOf(() => act("client", { intent: "resolve", commentId: hidden.id }))).toBe("allowed");
-    const reviewPath = `/releases/${f.releaseId}/tracks/${f.trackId}/review?render=${renders.preview}`;
-    const review = (await reviewLoader({ request: requestAs(f, "client", reviewPath), params: routeParams(), context: {} } as never)) as Awaited<ReturnType<typeof reviewLoader>>;
-    expect(review.render?.id).toBe(renders.preview);
-    expect(review.earlierSentId).toBe(renders.print);
+    const roomPath = `/releases/${f.releaseId}/room?track=${f.trackId}&render=${renders.preview}`;
+    const room = (await reviewLoader({ request: requestAs(f, "client", roomPath), params: { releaseId: f.releaseId }, context: {} } as never)) as Awaited<ReturnType<typeof reviewLoader>>;
+    expect(room.selected?.current.renderId).toBe(renders.preview);
+    expect(room.selected?.versions.map((v) => v.renderId).sort()).toEqual([renders.preview, renders.print].sort());
   });
 });
 

@@ -71,7 +71,7 @@ afterAll(async () => {
 });
 
 describe("review", () => {
-  it("sends, asks for changes, sends again, approves — each with its e-mail — and a render of another master clears the approval", async () => {
+  it("sends, asks for changes, sends again, approves — each with its e-mail; rendering keeps the approval, sending another master asks first", async () => {
     const mix1 = await newMix();
     const r1 = await doneRender(mix1, [60, 90]);
     expect((await getTrackReview(f.trackId)).state.status).toBe("in_progress");
@@ -98,11 +98,12 @@ describe("review", () => {
     // Changes already asked: no approval of the same render now.
     await expect(approveRender({ renderId: r1, userId: f.users.client.id, link: LINK })).rejects.toThrow(/changes were already asked/);
 
-    const r2 = await doneRender(mix1);
+    // Another master (the same mix at a loudness target): version 2.
+    const r2 = await doneRender(mix1, undefined, -14);
     await sendForReview({ renderId: r2, senderId: f.users.owner.id, link: "http://tidemark.test/r/2" });
-    await expect(approveRender({ renderId: r1, userId: f.users.client.id, link: LINK })).rejects.toThrow(/newer master/);
+    await expect(approveRender({ renderId: r1, userId: f.users.client.id, link: LINK })).rejects.toThrow(/newer version/);
     const approved = await approveRender({ renderId: r2, userId: f.users.client.id, link: "http://tidemark.test/t/1" });
-    expect(approved.state).toMatchObject({ status: "approved", approvedRenderId: r2 });
+    expect(approved.state).toMatchObject({ status: "approved", approvedRenderId: r2, approvedVersion: 2, changeRounds: 1 });
     const [toOwner] = await outbox(approved.emailIds);
     // The owner sent r2, so the owner hears of its approval.
     expect(toOwner).toMatchObject({ to_address: f.users.owner.email, kind: "review_approved" });
@@ -115,19 +116,19 @@ describe("review", () => {
       ["approved", `client ${f.tag}`],
     ]);
 
-    // A render of the approved master again (same mix, chain revision and
-    // target: say, the print of an approved preview) keeps the approval; a
-    // render of another master clears it; so does a new mix version.
-    await doneRender(mix1, [10, 40]);
+    // Rendering never clears the approval: the approved master again, another master, a new mix.
+    await doneRender(mix1, [10, 40], -14);
+    await doneRender(mix1, undefined, -10);
+    const r4 = await doneRender(await newMix());
     expect((await getTrackReview(f.trackId)).state).toMatchObject({ status: "approved", approvedRenderId: r2 });
-    await doneRender(mix1, undefined, -14);
-    expect((await getTrackReview(f.trackId)).state).toMatchObject({ status: "in_progress", approvedRenderId: null });
-    const r4 = await doneRender(mix1);
-    await sendForReview({ renderId: r4, senderId: f.users.engineer.id, link: LINK });
-    await approveRender({ renderId: r4, userId: f.users.client.id, link: LINK });
+    // Sending another master to a client who approved needs the engineer's confirmation…
+    await expect(sendForReview({ renderId: r4, senderId: f.users.engineer.id, link: LINK })).rejects.toThrow(/approved version 2.*version 3.*review again/);
     expect((await getTrackReview(f.trackId)).state.status).toBe("approved");
-    await newMix();
-    expect((await getTrackReview(f.trackId)).state.status).toBe("in_progress");
+    // …and then opens a new review, the earlier approval still shown.
+    const reopened = await sendForReview({ renderId: r4, senderId: f.users.engineer.id, link: LINK, confirmNewReview: true });
+    expect(reopened.state).toMatchObject({ status: "sent", version: 3, approvedVersion: 2, approvedRenderId: r2 });
+    await approveRender({ renderId: r4, userId: f.users.client.id, link: LINK });
+    expect((await getTrackReview(f.trackId)).state).toMatchObject({ status: "approved", approvedVersion: 3 });
   });
 
   it("refuses to send an unfinished render, or for a client to send", async () => {
@@ -142,7 +143,7 @@ describe("review", () => {
   it("lets only one of two verdicts given at once land", async () => {
     const mix = await newMix();
     const r = await doneRender(mix);
-    await sendForReview({ renderId: r, senderId: f.users.engineer.id, link: LINK });
+    await sendForReview({ renderId: r, senderId: f.users.engineer.id, link: LINK, confirmNewReview: true });
     const results = await Promise.allSettled([
       approveRender({ renderId: r, userId: f.users.client.id, link: LINK }),
       askForChanges({ renderId: r, userId: f.users.client.id, note: "Wait, one thing", link: LINK }),
@@ -156,7 +157,7 @@ describe("comments", () => {
   it("pins comments to times, threads replies, resolves, and e-mails the other side", async () => {
     const mix = await newMix();
     const r = await doneRender(mix, [30, 60]);
-    await sendForReview({ renderId: r, senderId: f.users.engineer.id, link: LINK });
+    await sendForReview({ renderId: r, senderId: f.users.engineer.id, link: LINK, confirmNewReview: true });
 
     const late = await addComment({ renderId: r, authorId: f.users.client.id, timeS: 47.5, body: "Snare jumps out here", link: "http://tidemark.test/c" });
     const [toEngineer] = await outbox(late.emailIds);

@@ -1,7 +1,7 @@
 // Someone in two studios: the header lists both, switching changes what the
 // workspace shows, and a link into the other studio's release switches on the way.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { createFixture, destroyFixture, requestAs, type Fixture } from "./fixtures.ts";
+import { cookieFor, createFixture, destroyFixture, requestAs, type Fixture } from "./fixtures.ts";
 import { db } from "../../app/lib/db.server.ts";
 import { listMemberships } from "../../app/models/user.server.ts";
 import { getUser, requireReleaseAccess } from "../../app/lib/auth.server.ts";
@@ -23,9 +23,13 @@ afterAll(() => destroyFixture(fixture));
 type Args = Parameters<typeof studioSwitch.action>[0];
 const call = <T>(handler: (args: Args) => T, request: Request) => handler({ request, params: {}, context: {} } as unknown as Args);
 
-function cookieFrom(response: Response): string {
-  return (response.headers.get("Set-Cookie") ?? "").split(";")[0];
-}
+/** The session lives on the server: a switch changes the row the same cookie names. */
+const withCookie = (cookie: string, path: string, form?: Record<string, string>) =>
+  new Request(`http://tidemark.test${path}`, {
+    method: form ? "POST" : "GET",
+    headers: { Cookie: cookie, ...(form ? { "Content-Type": "application/x-www-form-urlencoded" } : {}) },
+    body: form ? new URLSearchParams(form) : undefined,
+  });
 
 describe("several studios", () => {
   it("lists every membership, the sign-in default first", async () => {
@@ -43,10 +47,11 @@ describe("several studios", () => {
   });
 
   it("switches the session to a studio the person belongs to", async () => {
-    const response = (await call(studioSwitch.action, requestAs(fixture, "engineer", "/studio", { form: { studioId: fixture.otherStudioId } }))) as Response;
+    const cookie = await cookieFor(fixture.users.engineer.id, fixture.studioId);
+    const response = (await call(studioSwitch.action, withCookie(cookie, "/studio", { studioId: fixture.otherStudioId }))) as Response;
     expect(response.status).toBe(302);
     expect(response.headers.get("Location")).toBe("/");
-    const user = await getUser(new Request("http://tidemark.test/", { headers: { Cookie: cookieFrom(response) } }));
+    const user = await getUser(withCookie(cookie, "/"));
     expect(user?.studioId).toBe(fixture.otherStudioId);
   });
 
@@ -59,10 +64,11 @@ describe("several studios", () => {
 
   it("follows a link into the other studio's release by switching, and only for a member", async () => {
     const path = `/releases/${elsewhereReleaseId}`;
-    const followed = await requireReleaseAccess(requestAs(fixture, "engineer", path), elsewhereReleaseId).catch((e: unknown) => e);
+    const cookie = await cookieFor(fixture.users.engineer.id, fixture.studioId);
+    const followed = await requireReleaseAccess(withCookie(cookie, path), elsewhereReleaseId).catch((e: unknown) => e);
     expect((followed as Response).status).toBe(302);
     expect((followed as Response).headers.get("Location")).toBe(path);
-    const switched = new Request(`http://tidemark.test${path}`, { headers: { Cookie: cookieFrom(followed as Response) } });
+    const switched = withCookie(cookie, path);
     const { release } = await requireReleaseAccess(switched, elsewhereReleaseId);
     expect(release.id).toBe(elsewhereReleaseId);
     // The owner has no membership there: a plain 404, no switch.

@@ -162,6 +162,37 @@ describe("mix upload", () => {
     await expectNothingLeft(before);
   });
 
+  it("refuses a float WAV holding a non-finite sample, naming the first, leaving nothing behind", async () => {
+    const before = { rows: await mixCount(), files: await storedFiles() };
+    // Stereo float 32-bit at 48 kHz: 2 s of quiet signal, then NaN in the right channel at frame 70000.
+    const frames = 96_000;
+    const data = Buffer.alloc(frames * 8);
+    for (let i = 0; i < frames; i++) {
+      data.writeFloatLE(0.1 * Math.sin(i / 20), i * 8);
+      data.writeFloatLE(0.1 * Math.cos(i / 20), i * 8 + 4);
+    }
+    data.writeFloatLE(Number.NaN, 70_000 * 8 + 4);
+    data.writeFloatLE(Number.POSITIVE_INFINITY, 80_000 * 8);
+    const header = Buffer.alloc(44);
+    header.write("RIFF", 0);
+    header.writeUInt32LE(36 + data.length, 4);
+    header.write("WAVEfmt ", 8);
+    header.writeUInt32LE(16, 16);
+    header.writeUInt16LE(3, 20);
+    header.writeUInt16LE(2, 22);
+    header.writeUInt32LE(48_000, 24);
+    header.writeUInt32LE(48_000 * 8, 28);
+    header.writeUInt16LE(8, 32);
+    header.writeUInt16LE(32, 34);
+    header.write("data", 36);
+    header.writeUInt32LE(data.length, 40);
+    const { status, body } = await postRaw(Buffer.concat([header, data]), "nan.wav");
+    expect(status).toBe(422);
+    expect(body.error).toContain("not a finite number");
+    expect(body.error).toContain("at frame 70000, channel 2");
+    await expectNothingLeft(before);
+  });
+
   it("refuses a file past UPLOAD_MAX_BYTES with 413 while streaming it", async () => {
     process.env.UPLOAD_MAX_BYTES = "66000";
     const before = { rows: await mixCount(), files: await storedFiles() };

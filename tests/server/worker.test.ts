@@ -80,7 +80,11 @@ describe("worker", () => {
       const stored = await analyzeFile(local.path);
       const output = done.outputAnalysis as Record<string, number>;
       // The renderer measures its output before writing it as 24-bit; rounding to 24 bits moves the figures by far less than 0.001 dB.
-      for (const key of FIGURES) expect(Math.abs(output[key] - stored[key]), key).toBeLessThan(0.001);
+      // Its meter is pre-rolled (previews are the print): the loudness figures' windows at the region's start reach back
+      // into the audio before it, as the print's meter's do, where an analysis of the file alone starts from silence.
+      // The 3 s figures (short-term, range) of a 3 s file alone rest on windows mostly padded with silence, so they are not compared.
+      const windowed = new Set<string>(["integratedLufs", "maxMomentaryLufs"]);
+      for (const key of FIGURES) if (key !== "loudnessRangeLu" && key !== "maxShortTermLufs") expect(Math.abs(output[key] - stored[key]), key).toBeLessThan(windowed.has(key) ? 0.3 : 0.001);
       expect(output.truePeakDbtp).toBeLessThanOrEqual(-1 + 0.1);
     } finally {
       await local.release();
@@ -103,6 +107,33 @@ describe("worker", () => {
     } finally {
       await local.release();
     }
+  });
+
+  it("a preview to the print's target takes the print's gain from the cache (target_gains) and has the print's samples over its region", async () => {
+    const [print] = await db("renders").where({ mix_id: mix.id, chain_revision_id: revision.id, kind: "print", state: "done" }).select("output_key");
+    const key = { mix_id: mix.id, chain_revision_id: revision.id, target_lufs: -16 };
+    const cached = await db("target_gains").where(key).first<{ gain_db: number }>("gain_db");
+    expect(cached, "the print stored the gain it found").toBeDefined();
+    const samples = async (storageKey: string) => {
+      const local = await storage().localFile(storageKey);
+      try {
+        const { readWav } = await import("../../dsp/render/render.test-util.ts");
+        return await readWav(local.path);
+      } finally {
+        await local.release();
+      }
+    };
+    const preview = await createRender({ mixId: mix.id, chainRevisionId: revision.id, kind: "preview", region: { startS: 1, endS: 4 }, targetLufs: -16 });
+    const done = await waitForRender(preview.id, "done", 60_000);
+    const [p, v] = [await samples(print.output_key), await samples(done.output!.key)];
+    for (let c = 0; c < 2; c++) for (let i = 0; i < 3 * 48_000; i++) if (v[c][i] !== p[c][48_000 + i]) expect.fail(`sample ${i} of channel ${c} differs from the print's`);
+    // The gain really comes from the cache: with 3 dB more there, the next preview is 3 dB louder.
+    await db("target_gains").where(key).update({ gain_db: cached!.gain_db + 3 });
+    const louder = await createRender({ mixId: mix.id, chainRevisionId: revision.id, kind: "preview", region: { startS: 1, endS: 4 }, targetLufs: -16 });
+    const loud = await waitForRender(louder.id, "done", 60_000);
+    const a = (done.outputAnalysis as Record<string, number>).integratedLufs, b = (loud.outputAnalysis as Record<string, number>).integratedLufs;
+    expect(b - a).toBeGreaterThan(1);
+    await db("target_gains").where(key).update({ gain_db: cached!.gain_db });
   });
 
   it("cancels a running render: it stops, stays cancelled and stores nothing", async () => {

@@ -69,7 +69,7 @@ describe("the loudness report", () => {
     ],
     deliveries: [
       // t1 streaming: I −9.2, TP −1.0 → PLR 8.2; turn-down 4.8, 6.8, 13.8.
-      { trackId: "t1", formatId: "f1", analysis: { integratedLufs: -9.2, loudnessRangeLu: 5.46, truePeakDbtp: -1.0 }, warnings: [] },
+      { trackId: "t1", formatId: "f1", analysis: { integratedLufs: -9.2, loudnessRangeLu: 5.46, truePeakDbtp: -1.0, reconstructedPeakDb: -0.962 }, warnings: [] },
       // t1 CD: I −15.04, TP −0.987 → PLR 14.053; turn-down 0, 0.96, 7.96.
       { trackId: "t1", formatId: "f2", analysis: { integratedLufs: -15.04, loudnessRangeLu: 7, truePeakDbtp: -0.987 }, warnings: ["true peak high"] },
       // t2 streaming: silent.
@@ -105,16 +105,17 @@ describe("the loudness report", () => {
       "Integrated (LUFS)",
       "Loudness range (LU)",
       "True peak (dBTP)",
+      "Reconstructed peak (dBFS)",
       "PLR (dB)",
       "Turn-down at Streaming reference -14 LUFS (dB)",
       "Turn-down at Quiet reference -16 LUFS (dB)",
       "Turn-down at Broadcast reference -23 LUFS (dB)",
       "Warnings",
     ]);
-    expect(rows[1]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "Streaming", "-9.2", "5.5", "-1", "8.2", "4.8", "6.8", "13.8", ""]);
-    expect(rows[2]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "CD", "-15", "7", "-0.99", "14.1", "0", "1", "8", "true peak high"]);
-    expect(rows[3]).toEqual(["2", 'Salt, "Cedar"', "", "Streaming", "", "0", "", "", "", "", "", "silent"]);
-    expect(rows[4]).toEqual(["2", 'Salt, "Cedar"', "", "CD", "", "", "", "", "", "", "", "not delivered"]);
+    expect(rows[1]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "Streaming", "-9.2", "5.5", "-1", "-0.96", "8.2", "4.8", "6.8", "13.8", ""]);
+    expect(rows[2]).toEqual(["1", "'=Low Tide", "ZZQ1X2612345", "CD", "-15", "7", "-0.99", "", "14.1", "0", "1", "8", "true peak high"]);
+    expect(rows[3]).toEqual(["2", 'Salt, "Cedar"', "", "Streaming", "", "0", "", "", "", "", "", "", "silent"]);
+    expect(rows[4]).toEqual(["2", 'Salt, "Cedar"', "", "CD", "", "", "", "", "", "", "", "", "not delivered"]);
     expect(rows).toHaveLength(5);
     expect(csv).toContain('"Salt, ""Cedar"""');
   });

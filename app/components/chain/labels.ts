@@ -6,7 +6,9 @@ import {
   LIMIT_FIELDS,
   MULTIBAND_FIELDS,
   OUTPUT_FIELDS,
+  RESONANCE_FIELDS,
   SATURATE_FIELDS,
+  TAPE_FIELDS,
   TRIM_FIELDS,
   type FieldRange,
 } from "../../../dsp/chain/fields.ts";
@@ -15,6 +17,8 @@ export const STAGE_LABELS: Record<string, string> = {
   trim: "Trim",
   eq: "Equaliser",
   saturate: "Saturation",
+  resonance: "Resonance taming",
+  tape: "Tape colour",
   compress: "Compressor",
   multiband: "Multiband compressor",
   limit: "Limiter",
@@ -32,12 +36,18 @@ const OTHER_LABELS: Record<string, { label: string; unit?: string }> = {
   bitDepth: { label: "Bit depth", unit: "bit" },
   dither: { label: "Dither" },
   crossoversHz: { label: "Crossover", unit: "Hz" },
+  listen: { label: "Listen to" },
 };
 
-const FIELD_GROUPS: Record<string, FieldRange>[] = [COMPRESS_FIELDS, TRIM_FIELDS, EQ_BAND_FIELDS, SATURATE_FIELDS, MULTIBAND_FIELDS, LIMIT_FIELDS, OUTPUT_FIELDS];
+const FIELD_GROUPS: Record<string, FieldRange>[] = [COMPRESS_FIELDS, TRIM_FIELDS, EQ_BAND_FIELDS, SATURATE_FIELDS, MULTIBAND_FIELDS, LIMIT_FIELDS, OUTPUT_FIELDS, RESONANCE_FIELDS, TAPE_FIELDS];
 
-/** Label and unit of a parameter by its key (the same key means the same thing in every stage). */
-export function describeKey(key: string): { label: string; unit: string } {
+/** Fields whose label is the stage's own (a resonance stage's thresholdDb is not a compressor's). */
+const STAGE_FIELDS: Record<string, Record<string, FieldRange>> = { resonance: RESONANCE_FIELDS, tape: TAPE_FIELDS };
+
+/** Label and unit of a parameter by its key (the same key means the same thing in every stage, unless the stage has its own). */
+export function describeKey(key: string, stageType?: string): { label: string; unit: string } {
+  const own = stageType ? STAGE_FIELDS[stageType] : undefined;
+  if (own && key in own) return { label: own[key].label, unit: own[key].unit };
   for (const group of FIELD_GROUPS) if (key in group) return { label: group[key].label, unit: group[key].unit };
   const other = OTHER_LABELS[key];
   return other ? { label: other.label, unit: other.unit ?? "" } : { label: key, unit: "" };
@@ -72,11 +82,13 @@ export function describePath(path: string, chains: unknown[]): { where: string; 
   const where: string[] = [];
   let label = "";
   let unit = "";
+  let stageType: string | undefined;
   for (let i = 0; i < parts.length; i++) {
     const part = parts[i];
     const next = parts[i + 1];
     if (part === "stages" && typeof next === "number") {
       const type = chains.map((c) => (c as { stages?: { type?: string }[] })?.stages?.[next]?.type).find(Boolean);
+      stageType = type;
       where.push(`Stage ${next + 1}${type ? ` (${STAGE_LABELS[type] ?? type})` : ""}`);
       i++;
     } else if (part === "bands" && typeof next === "number") {
@@ -85,7 +97,7 @@ export function describePath(path: string, chains: unknown[]): { where: string; 
     } else if (part === "output") {
       where.push("Output");
     } else if (typeof part === "string") {
-      ({ label, unit } = describeKey(part));
+      ({ label, unit } = describeKey(part, stageType));
       if (typeof next === "number") {
         label = `${label} ${next + 1}`;
         i++;

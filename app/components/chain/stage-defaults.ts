@@ -1,6 +1,6 @@
 // A new stage of each type, with the renderer's defaults (fields.ts) and
 // neutral frequencies where there is no default.
-import { COMPRESS_FIELDS, LIMIT_FIELDS, SATURATE_FIELDS } from "../../../dsp/chain/fields.ts";
+import { COMPRESS_FIELDS, LIMIT_FIELDS, RESONANCE_FIELDS, SATURATE_FIELDS, TAPE_FIELDS } from "../../../dsp/chain/fields.ts";
 
 export type Json = Record<string, unknown>;
 
@@ -32,6 +32,25 @@ export function newStage(type: string): Json {
       return { type, bypass: false, bands: [newEqBand()] };
     case "saturate":
       return { type, bypass: false, driveDb: SATURATE_FIELDS.driveDb.default, blend: SATURATE_FIELDS.blend.default, oversample: 4 };
+    case "resonance": {
+      const f = RESONANCE_FIELDS;
+      return {
+        type,
+        bypass: false,
+        lowHz: f.lowHz.default,
+        highHz: f.highHz.default,
+        thresholdDb: f.thresholdDb.default,
+        maxCutDb: f.maxCutDb.default,
+        attackMs: f.attackMs.default,
+        releaseMs: f.releaseMs.default,
+        blend: f.blend.default,
+        listen: "output",
+      };
+    }
+    case "tape": {
+      const f = TAPE_FIELDS;
+      return { type, bypass: false, driveDb: f.driveDb.default, bumpHz: f.bumpHz.default, bumpDb: f.bumpDb.default, rolloffHz: f.rolloffHz.default, blend: f.blend.default, oversample: 4 };
+    }
     case "compress":
       return { type, bypass: false, ...compressDefaults() };
     case "multiband":

@@ -14,7 +14,7 @@ import { openPair, type LoadedPart } from "./progressive-wav.ts";
 import { formatClock, formatDb } from "./format.ts";
 import { playerLevelMatch } from "./match.ts";
 import { MonitoringNotice, MonitoringReminder, useMonitoringAck } from "./monitoring-notice.tsx";
-import { Waveform, type WaveformComment } from "./waveform.tsx";
+import { Waveform, type StoredPeaks, type WaveformComment } from "./waveform.tsx";
 
 export type AbSource = {
   url: string;
@@ -24,11 +24,23 @@ export type AbSource = {
   offsetS?: number;
   /** The stored integrated loudness, used when the whole source is compared. */
   integratedLufs?: number | null;
+  /** Peaks stored by the worker: the waveform is drawn from these, whole, before the audio has loaded. */
+  peaks?: StoredPeaks | null;
 };
+
+/** What a page may ask of the player: play from a time (through the safe-level confirmation). */
+export type PlayerControl = { playFrom: (timeS: number) => void };
 
 export type AbPlayerProps = {
   a: AbSource;
-  b: AbSource;
+  /** Absent: the player plays `a` alone (no source switch). */
+  b?: AbSource | null;
+  /** Plain words for a listener: no A/B letters, key hints or gain figures (the review room). */
+  plain?: boolean;
+  /** Filled with the player's controls once it is ready. */
+  controlRef?: { current: PlayerControl | null };
+  /** Called once the player is ready, with its controls. */
+  onReady?: (control: PlayerControl) => void;
   comments?: WaveformComment[];
   /** Called with the time of a comment marker, or of a click on the waveform. */
   onSeek?: (timeS: number) => void;
@@ -59,7 +71,10 @@ const withChannels = (part: LoadedPart): Part => ({
 const isTyping = (target: EventTarget | null) =>
   target instanceof HTMLElement && (target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName));
 
-export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositionChange, onLoopChange, initialLoop = null }: AbPlayerProps) {
+export function AbPlayer({ a, b: bGiven = null, plain = false, controlRef, onReady, comments = [], onSeek, onCommentClick, onPositionChange, onLoopChange, initialLoop = null }: AbPlayerProps) {
+  // One source alone is played as both A and B (fetched once, see openPair): one engine for every player.
+  const alone = bGiven === null;
+  const b = bGiven ?? a;
   const [status, setStatus] = useState<"loading" | "ready" | "error">("loading");
   const [error, setError] = useState<string | null>(null);
   const loadedRef = useRef<Loaded | null>(null);
@@ -246,6 +261,30 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
     [loaded],
   );
 
+  // Play from a time (a comment's): seek, then play — after the safe-level confirmation if not given yet.
+  const playFrom = useCallback(
+    (timeS: number) => {
+      if (!loaded) return;
+      seek(timeS);
+      if (loaded.engine.playing) return;
+      if (!acked) setAskLevel(true);
+      else void startPlayback();
+    },
+    [loaded, seek, acked, startPlayback],
+  );
+  useEffect(() => {
+    if (controlRef) controlRef.current = loaded ? { playFrom } : null;
+  }, [controlRef, loaded, playFrom]);
+  const onReadyRef = useRef(onReady);
+  onReadyRef.current = onReady;
+  // Once per engine (not again when the confirmation or the position changes playFrom).
+  const readyFor = useRef<AbEngine | null>(null);
+  useEffect(() => {
+    if (!loaded || readyFor.current === loaded.engine) return;
+    readyFor.current = loaded.engine;
+    onReadyRef.current?.({ playFrom });
+  }, [loaded, playFrom]);
+
   const chooseLoop = useCallback(
     (region: Region | null) => {
       if (!loaded) return;
@@ -259,16 +298,16 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
     const onKey = (e: KeyboardEvent) => {
       if (e.ctrlKey || e.metaKey || e.altKey || isTyping(e.target) || !loaded) return;
       const key = e.key.toLowerCase();
-      if (key === "a") choose("A");
-      else if (key === "b") choose("B");
-      else if (key === "s") choose(loaded.engine.active === "A" ? "B" : "A");
+      if (key === "a" && !plain) choose("A");
+      else if (key === "b" && !plain && !alone) choose("B");
+      else if (key === "s" && !alone) choose(loaded.engine.active === "A" ? "B" : "A");
       else if (key === " " && !(e.target instanceof HTMLButtonElement)) playPause();
       else return;
       e.preventDefault();
     };
     window.addEventListener("keydown", onKey);
     return () => window.removeEventListener("keydown", onKey);
-  }, [loaded, choose, playPause]);
+  }, [loaded, choose, playPause, plain, alone]);
 
   const appliedDb = match && matching ? (active === "A" ? match.gainADb : match.gainBDb) : 0;
   const span = loaded?.engine.span ?? { startS: 0, endS: 1 };
@@ -278,8 +317,8 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
 
   return (
     <section
-      className="card space-y-3 p-4"
-      aria-label="A/B comparison"
+      className="card max-w-full min-w-0 space-y-3 overflow-hidden p-4"
+      aria-label={alone ? "Player" : plain ? "Versions side by side" : "A/B comparison"}
       data-testid="ab-player"
       data-state={status}
       data-active-source={active}
@@ -311,25 +350,31 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
         <button type="button" className="btn-primary w-28" onClick={playPause} disabled={status !== "ready"} aria-keyshortcuts="Space">
           {playing ? "Pause" : "Play"}
         </button>
-        <div role="group" aria-label="Source" className="inline-flex overflow-hidden rounded-md border border-rule">
-          {(["A", "B"] as const).map((id) => (
-            <button
-              key={id}
-              type="button"
-              aria-pressed={active === id}
-              aria-keyshortcuts={id}
-              disabled={status !== "ready"}
-              onClick={() => choose(id)}
-              className={`px-4 py-2 text-sm ${active === id ? "bg-ink text-card" : "bg-card text-ink hover:bg-paper-deep"}`}
-            >
-              <span className="num font-semibold">{id}</span> <span className="text-xs">{(id === "A" ? a : b).label}</span>
-            </button>
-          ))}
-        </div>
-        <button type="button" className="btn-quiet" onClick={() => choose(active === "A" ? "B" : "A")} disabled={status !== "ready"} aria-keyshortcuts="S">
-          Switch <kbd className="num text-xs text-ink-faint">S</kbd>
-        </button>
-        <span className="num ml-auto text-sm text-ink" aria-live="off">
+        {!alone && (
+          <div role="group" aria-label={plain ? "Version" : "Source"} className="inline-flex max-w-full overflow-hidden rounded-md border border-rule">
+            {(["A", "B"] as const).map((id) => (
+              <button
+                key={id}
+                type="button"
+                aria-pressed={active === id}
+                aria-keyshortcuts={plain ? undefined : id}
+                disabled={status !== "ready"}
+                onClick={() => choose(id)}
+                data-source={id}
+                className={`px-3 py-2 text-sm ${active === id ? "bg-ink text-card" : "bg-card text-ink hover:bg-paper-deep"}`}
+              >
+                {!plain && <span className="num font-semibold">{id} </span>}
+                <span className={plain ? "" : "text-xs"}>{(id === "A" ? a : b).label}</span>
+              </button>
+            ))}
+          </div>
+        )}
+        {!alone && !plain && (
+          <button type="button" className="btn-quiet" onClick={() => choose(active === "A" ? "B" : "A")} disabled={status !== "ready"} aria-keyshortcuts="S">
+            Switch <kbd className="num text-xs text-ink-faint">S</kbd>
+          </button>
+        )}
+        <span className="num ml-auto text-sm text-ink" aria-live="off" data-testid="player-clock">
           {formatClock(positionS)} <span className="text-ink-faint">/ {formatClock(span.endS)}</span>
         </span>
       </div>
@@ -355,6 +400,7 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
           }}
           onSelectRegion={(r) => chooseLoop(r)}
           onCommentClick={onCommentClick}
+          storedPeaks={(active === "A" ? a : b).peaks ?? null}
         />
       )}
       <input
@@ -369,6 +415,36 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
         onChange={(e) => seek(Number(e.currentTarget.value))}
       />
 
+      {plain ? (
+        <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-sm">
+          {!alone && (
+            <label className="inline-flex items-center gap-2">
+              <input
+                type="checkbox"
+                checked={matching}
+                onChange={(e) => {
+                  const on = e.currentTarget.checked;
+                  loaded?.engine.setMatching(on);
+                  setMatching(on);
+                }}
+              />
+              Same loudness for both versions
+            </label>
+          )}
+          {loop ? (
+            <span className="inline-flex items-center gap-2">
+              <span className="num text-ink" data-testid="loop-region">
+                Repeating {formatClock(loop.startS)} – {formatClock(loop.endS)}
+              </span>
+              <button type="button" className="btn-quiet" onClick={() => chooseLoop(null)}>
+                Stop repeating
+              </button>
+            </span>
+          ) : (
+            <span className="text-xs text-ink-soft">Click the waveform to pick a moment; drag across it to repeat a stretch.</span>
+          )}
+        </div>
+      ) : (
       <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-sm">
         <label className="inline-flex items-center gap-2">
           <input
@@ -411,10 +487,13 @@ export function AbPlayer({ a, b, comments = [], onSeek, onCommentClick, onPositi
           )}
         </span>
       </div>
+      )}
+      {!plain && (
       <p className="text-xs text-ink-faint">
         Keys: <kbd className="num">A</kbd> / <kbd className="num">B</kbd> choose, <kbd className="num">S</kbd> switches, <kbd className="num">Space</kbd> plays
         or pauses.
       </p>
+      )}
     </section>
   );
 }

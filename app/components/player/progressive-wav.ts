@@ -140,9 +140,9 @@ export type Io = {
   signal?: AbortSignal;
 };
 
-type Probe = { url: string; layout: WavLayout; totalBytes: number; whole: Uint8Array | null };
+export type Probe = { url: string; layout: WavLayout; totalBytes: number; whole: Uint8Array | null };
 
-async function probe(url: string, io: Io): Promise<Probe> {
+export async function probe(url: string, io: Io): Promise<Probe> {
   const response = await io.fetch(url, { headers: { Range: `bytes=0-${HEADER_PROBE_BYTES - 1}` }, credentials: "same-origin", signal: io.signal });
   if (!response.ok) throw new Error(`could not load the audio (${response.status})`);
   const bytes = new Uint8Array(await response.arrayBuffer());
@@ -154,7 +154,7 @@ async function probe(url: string, io: Io): Promise<Probe> {
   return { url, layout, totalBytes: total, whole: response.status === 206 && bytes.length < total ? null : bytes };
 }
 
-async function fetchFrames(p: Probe, startFrame: number, endFrame: number, io: Io): Promise<Uint8Array> {
+export async function fetchFrames(p: Probe, startFrame: number, endFrame: number, io: Io): Promise<Uint8Array> {
   const start = p.layout.dataOffset + startFrame * p.layout.blockAlign;
   const end = p.layout.dataOffset + endFrame * p.layout.blockAlign; // exclusive
   if (end <= start) return new Uint8Array(0);
@@ -181,7 +181,9 @@ export type OpenedPair = {
 /** Opens both sources: headers, the shared span, the first seconds decoded, the rest on its way. */
 export async function openPair(inputs: Record<SourceId, PairInput>, io: Io, options: { firstSegmentS?: number } = {}): Promise<OpenedPair> {
   const firstSegmentS = options.firstSegmentS ?? FIRST_SEGMENT_S;
-  const [pa, pb] = await Promise.all([probe(inputs.A.url, io), probe(inputs.B.url, io)]);
+  // One source heard alone is given as both A and B: fetched and decoded once.
+  const same = inputs.A.url === inputs.B.url && inputs.A.offsetS === inputs.B.offsetS;
+  const [pa, pb] = same ? await probe(inputs.A.url, io).then((p) => [p, p]) : await Promise.all([probe(inputs.A.url, io), probe(inputs.B.url, io)]);
   const probes: Record<SourceId, Probe> = { A: pa, B: pb };
   const whole = (id: SourceId): Region => ({ startS: inputs[id].offsetS, endS: inputs[id].offsetS + probes[id].layout.frames / probes[id].layout.sampleRate });
   const startS = Math.max(whole("A").startS, whole("B").startS);
@@ -208,7 +210,7 @@ export async function openPair(inputs: Record<SourceId, PairInput>, io: Io, opti
     const head = await fetchFrames(probes[id], startFrame, firstEndFrame, io);
     return { head, first: await part(id, head, firstEndFrame === endFrame) };
   };
-  const [a, b] = await Promise.all([loadFirst("A"), loadFirst("B")]);
+  const [a, b] = same ? await loadFirst("A").then((x) => [x, x]) : await Promise.all([loadFirst("A"), loadFirst("B")]);
   const heads = { A: a.head, B: b.head };
   const loadRest = (id: SourceId): Promise<LoadedPart> | null => {
     const { firstEndFrame, endFrame } = plan(id);
@@ -220,5 +222,6 @@ export async function openPair(inputs: Record<SourceId, PairInput>, io: Io, opti
       return part(id, all, true);
     });
   };
-  return { span: { startS, endS }, first: { A: a.first, B: b.first }, rest: { A: loadRest("A"), B: loadRest("B") } };
+  const restA = loadRest("A");
+  return { span: { startS, endS }, first: { A: a.first, B: b.first }, rest: { A: restA, B: same ? restA : loadRest("B") } };
 }

@@ -57,9 +57,9 @@ export function TraceCharts({ aligned, positionS, labels, processed = { a: true,
       {aligned.panels.map((panel) => {
         const loudness = panel.kind === "shortTermLufs";
         return (
-          <figure key={panel.id} className="card p-3" data-panel={panel.id}>
+          <figure key={panel.id} className="card max-w-full min-w-0 overflow-hidden p-3" data-panel={panel.id}>
             <figcaption className="mb-1 text-sm font-medium text-ink">{panel.title}</figcaption>
-            <div style={{ height: loudness ? 140 : 110 }}>
+            <div className="w-full max-w-full min-w-0 overflow-hidden" style={{ height: loudness ? 140 : 110 }}>
               <ResponsiveContainer width="100%" height="100%">
                 <ComposedChart data={aligned.rows} margin={{ top: 6, right: 28, bottom: 0, left: 0 }}>
                   <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />

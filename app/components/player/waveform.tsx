@@ -8,6 +8,33 @@ import { computePeaks } from "./peaks.ts";
 
 export type WaveformComment = { id: string; timeS: number; body?: string; resolved?: boolean };
 
+/** Peaks computed by the worker and stored (dsp/render/waveform-peaks.ts), placed on the mix's time axis; values −127…127. */
+export type StoredPeaks = { startS: number; endS: number; min: number[]; max: number[] };
+
+/** Stored peaks over a span, resampled to the canvas's columns (the extremes of the stored columns each covers). */
+export function peaksFromStored(stored: StoredPeaks, span: Region, columns: number): { min: Float32Array; max: Float32Array } {
+  const min = new Float32Array(columns);
+  const max = new Float32Array(columns);
+  const n = stored.min.length;
+  const perS = n / Math.max(1e-9, stored.endS - stored.startS);
+  const spanS = span.endS - span.startS;
+  for (let c = 0; c < columns; c++) {
+    const fromS = span.startS + (c / columns) * spanS;
+    const toS = span.startS + ((c + 1) / columns) * spanS;
+    const a = Math.max(0, Math.floor((fromS - stored.startS) * perS));
+    const b = Math.min(n, Math.max(a + 1, Math.ceil((toS - stored.startS) * perS)));
+    let lo = 0;
+    let hi = 0;
+    for (let i = a; i < b; i++) {
+      if (stored.min[i] < lo) lo = stored.min[i];
+      if (stored.max[i] > hi) hi = stored.max[i];
+    }
+    min[c] = lo / 127;
+    max[c] = hi / 127;
+  }
+  return { min, max };
+}
+
 export type WaveformProps = {
   /** Decoded channels of the source to draw, its sample rate, and where its 0 s sits on the mix axis. */
   channels: Float32Array[] | null;
@@ -21,6 +48,8 @@ export type WaveformProps = {
   onSelectRegion: (region: Region) => void;
   onCommentClick?: (comment: WaveformComment) => void;
   heightPx?: number;
+  /** Stored peaks of the source: drawn instead of peaks of the decoded audio (which may be only its start). */
+  storedPeaks?: StoredPeaks | null;
 };
 
 // Colours from the theme of app/app.css, with the same values as fallbacks for a page without it.
@@ -38,7 +67,7 @@ function themeColours(el: Element) {
 
 const DRAG_MIN_PX = 4;
 
-export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop, comments = [], onSeek, onSelectRegion, onCommentClick, heightPx = 96 }: WaveformProps) {
+export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop, comments = [], onSeek, onSelectRegion, onCommentClick, heightPx = 96, storedPeaks = null }: WaveformProps) {
   const wrapRef = useRef<HTMLDivElement>(null);
   const canvasRef = useRef<HTMLCanvasElement>(null);
   const [widthPx, setWidthPx] = useState(0);
@@ -54,9 +83,11 @@ export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop,
   }, []);
 
   const peaks = useMemo(() => {
-    if (!channels || widthPx <= 0) return null;
+    if (widthPx <= 0) return null;
+    if (storedPeaks) return peaksFromStored(storedPeaks, span, widthPx);
+    if (!channels) return null;
     return computePeaks(channels, (span.startS - offsetS) * sampleRate, (span.endS - offsetS) * sampleRate, widthPx);
-  }, [channels, widthPx, span.startS, span.endS, offsetS, sampleRate]);
+  }, [channels, widthPx, span.startS, span.endS, offsetS, sampleRate, storedPeaks]); // eslint-disable-line react-hooks/exhaustive-deps
 
   const xOf = (timeS: number) => ((timeS - span.startS) / lengthS) * widthPx;
   const timeOf = (px: number) => span.startS + (Math.min(Math.max(px, 0), widthPx) / Math.max(1, widthPx)) * lengthS;
@@ -100,11 +131,13 @@ export function Waveform({ channels, sampleRate, offsetS, span, positionS, loop,
   const localX = (e: ReactPointerEvent<HTMLCanvasElement>) => e.clientX - e.currentTarget.getBoundingClientRect().left;
 
   return (
-    <div className="select-none" ref={wrapRef} style={{ position: "relative", height: heightPx + 18 }}>
+    <div className="min-w-0 select-none" ref={wrapRef} style={{ position: "relative", height: heightPx + 18, maxWidth: "100%" }}>
       <canvas
         ref={canvasRef}
+        data-testid="waveform"
+        data-peaks={peaks ? (storedPeaks ? "stored" : "decoded") : "none"}
         className="block w-full cursor-crosshair rounded-sm"
-        style={{ height: heightPx, marginTop: 18 }}
+        style={{ height: heightPx, marginTop: 18, width: "100%", maxWidth: "100%" }}
         aria-label={`Waveform from ${formatClock(span.startS)} to ${formatClock(span.endS)}; click to move the playhead, drag to choose a loop`}
         role="img"
         onPointerDown={(e) => {

@@ -2,12 +2,13 @@
 import { fmt } from "./format.ts";
 import { DataTable } from "../data-table.tsx";
 
-type Analysis = Partial<Record<"integratedLufs" | "loudnessRangeLu" | "truePeakDbtp" | "samplePeakDbfs" | "maxShortTermLufs" | "maxMomentaryLufs", number | null>>;
+type Analysis = Partial<Record<"integratedLufs" | "loudnessRangeLu" | "truePeakDbtp" | "reconstructedPeakDb" | "samplePeakDbfs" | "maxShortTermLufs" | "maxMomentaryLufs", number | null>>;
 
 const ROWS: { key: keyof Analysis; label: string; unit: string }[] = [
   { key: "integratedLufs", label: "Integrated loudness", unit: "LUFS" },
   { key: "loudnessRangeLu", label: "Loudness range", unit: "LU" },
   { key: "truePeakDbtp", label: "True peak", unit: "dBTP" },
+  { key: "reconstructedPeakDb", label: "Reconstructed peak (8×)", unit: "dBFS" },
   { key: "samplePeakDbfs", label: "Sample peak", unit: "dBFS" },
   { key: "maxShortTermLufs", label: "Maximum short-term", unit: "LUFS" },
   { key: "maxMomentaryLufs", label: "Maximum momentary", unit: "LUFS" },

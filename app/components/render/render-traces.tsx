@@ -12,7 +12,12 @@ export type ChartTraces = {
 };
 
 const SERIES_COLOURS = ["#0e5f6b", "#b3672b", "#5a4f9c", "#3f7d3a", "#a3321f", "#4a4d55"];
-const STAGE_NAMES: Record<string, string> = { multiband: "Multiband dynamics", compress: "Compressor", limit: "Limiter", saturate: "Saturation" };
+const STAGE_NAMES: Record<string, string> = { multiband: "Multiband dynamics", compress: "Compressor", limit: "Limiter", saturate: "Saturation", resonance: "Resonance taming (deepest cut)", tape: "Tape colour (curve compression at the peak)" };
+
+// A chart keeps the width it last measured until its resize observer fires: its box
+// never grows past its container, so a page narrowed meanwhile (a phone turned, a
+// test's viewport) does not scroll sideways whatever the timing.
+const CHART_BOX = "w-full max-w-full min-w-0 overflow-hidden";
 
 const tick = { fontFamily: "var(--font-mono)", fontSize: 11 };
 const timeLabel = (s: number) => `${s.toFixed(s < 10 ? 1 : 0)} s`;
@@ -22,7 +27,7 @@ export function RenderTraces({ traces }: { traces: ChartTraces }) {
   const time = (i: number) => Math.round((traces.startS + i * traces.stepS) * 100) / 100;
   const loudness = traces.shortTermLufs.map((v, i) => ({ t: time(i), lufs: v }));
   return (
-    <div className="space-y-4" data-testid="render-traces">
+    <div className="min-w-0 max-w-full space-y-4" data-testid="render-traces">
       {traces.stages.map((stage) => {
         const rows = Array.from({ length }, (_, i) => {
           const row: Record<string, number> = { t: time(i) };
@@ -32,11 +37,11 @@ export function RenderTraces({ traces }: { traces: ChartTraces }) {
           return row;
         });
         return (
-          <figure key={stage.index} className="card p-3" data-stage={stage.type}>
+          <figure key={stage.index} className="card max-w-full min-w-0 overflow-hidden p-3" data-stage={stage.type}>
             <figcaption className="mb-1 text-sm font-medium">
               {STAGE_NAMES[stage.type] ?? stage.type} <span className="text-ink-faint">· stage {stage.index + 1} · gain reduction (dB)</span>
             </figcaption>
-            <div style={{ height: 130 }}>
+            <div className={CHART_BOX} style={{ height: 130 }}>
               <ResponsiveContainer width="100%" height="100%">
                 <AreaChart data={rows} margin={{ top: 4, right: 20, bottom: 0, left: 0 }}>
                   <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />
@@ -83,9 +88,9 @@ export function RenderTraces({ traces }: { traces: ChartTraces }) {
           </figure>
         );
       })}
-      <figure className="card p-3" data-stage="loudness">
+      <figure className="card max-w-full min-w-0 overflow-hidden p-3" data-stage="loudness">
         <figcaption className="mb-1 text-sm font-medium">Output short-term loudness (LUFS)</figcaption>
-        <div style={{ height: 140 }}>
+        <div className={CHART_BOX} style={{ height: 140 }}>
           <ResponsiveContainer width="100%" height="100%">
             <LineChart data={loudness} margin={{ top: 4, right: 20, bottom: 0, left: 0 }}>
               <CartesianGrid stroke="var(--color-rule)" strokeDasharray="2 4" vertical={false} />

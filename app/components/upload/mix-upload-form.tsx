@@ -29,7 +29,17 @@ function sendFile(url: string, file: File, onProgress: (sent: number) => void): 
   });
 }
 
-export function MixUploadForm({ uploadUrl, maxBytesLabel, error }: { uploadUrl: string; maxBytesLabel: string; error?: string }) {
+type UploadFormProps = {
+  uploadUrl: string;
+  maxBytesLabel: string;
+  error?: string;
+  /** The field's label and hint, for uploads other than mix versions (reference tracks). */
+  label?: string;
+  hint?: string;
+  inputId?: string;
+};
+
+export function MixUploadForm({ uploadUrl, maxBytesLabel, error, label, hint, inputId = "mix-files" }: UploadFormProps) {
   const input = useRef<HTMLInputElement>(null);
   const [items, setItems] = useState<Item[]>([]);
   const [dragging, setDragging] = useState(false);
@@ -73,12 +83,12 @@ export function MixUploadForm({ uploadUrl, maxBytesLabel, error }: { uploadUrl: 
       }}
     >
       <input type="hidden" name="intent" value="upload" />
-      <label htmlFor="mix-files" className="mb-1.5 block text-sm font-medium">
-        Upload a new mix version (WAV)
+      <label htmlFor={inputId} className="mb-1.5 block text-sm font-medium">
+        {label ?? "Upload a new mix version (WAV)"}
       </label>
-      <p className="mb-2 text-sm text-ink-faint">Choose files or drop them here. Up to {maxBytesLabel} a file; each becomes the next version.</p>
+      <p className="mb-2 text-sm text-ink-faint">{hint ?? `Choose files or drop them here. Up to ${maxBytesLabel} a file; each becomes the next version.`}</p>
       <div className="flex flex-wrap items-center gap-3">
-        <input ref={input} id="mix-files" name="file" type="file" multiple accept=".wav,audio/wav,audio/x-wav" className="max-w-full text-sm" />
+        <input ref={input} id={inputId} name="file" type="file" multiple accept=".wav,audio/wav,audio/x-wav" className="max-w-full text-sm" />
         <button type="submit" className="btn-primary" disabled={busy}>
           {busy ? "Uploading…" : "Upload"}
         </button>

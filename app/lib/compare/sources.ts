@@ -10,13 +10,14 @@
 // mixes, gets the two newest renders sent to them.
 import { z } from "zod";
 
-export type SourceType = "render" | "mix";
+/** A reference track (staff only) is compared like a source, but never chosen by default. */
+export type SourceType = "render" | "mix" | "reference";
 export type SourceKey = { type: SourceType; id: string };
 
 // Any 8-4-4-4-12 hex id, as app/lib/ids.ts accepts (not only RFC 4122 versions).
 const uuid = z.guid();
 const keySchema = z.union([
-  z.templateLiteral([z.enum(["render", "mix"]), ":", uuid]).transform((text): SourceKey => {
+  z.templateLiteral([z.enum(["render", "mix", "reference"]), ":", uuid]).transform((text): SourceKey => {
     const [type, id] = text.split(":") as [SourceType, string];
     return { type, id: id.toLowerCase() };
   }),
@@ -24,7 +25,7 @@ const keySchema = z.union([
   uuid.transform((id): SourceKey => ({ type: "render", id: id.toLowerCase() })),
 ]);
 
-/** "render:<uuid>", "mix:<uuid>" or a bare render uuid → the key; anything else → null. */
+/** "render:<uuid>", "mix:<uuid>", "reference:<uuid>" or a bare render uuid → the key; anything else → null. */
 export function parseSourceKey(text: string | null | undefined): SourceKey | null {
   const parsed = keySchema.safeParse(text ?? "");
   return parsed.success ? parsed.data : null;
@@ -51,7 +52,7 @@ export function choosePair<T extends PairCandidate>(sources: readonly T[], wante
   if (!a) return { a: null, b: null };
   const wantedB = find(wanted.b);
   if (wantedB && wantedB.key !== a.key) return { a, b: wantedB };
-  const others = sources.filter((s) => s.key !== a.key);
+  const others = sources.filter((s) => s.key !== a.key && s.type !== "reference");
   let b: T | undefined;
   if (a.type === "render") {
     b = mixes.find((m) => m.id === a.mixId) ?? others.find((s) => s.type === "render");

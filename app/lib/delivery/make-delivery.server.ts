@@ -98,6 +98,7 @@ export async function makeDelivery(deliveryId: string, options: { storage?: Stor
           integratedLufs: a.integratedLufs,
           loudnessRangeLu: a.loudnessRangeLu,
           truePeakDbtp: a.truePeakDbtp,
+          reconstructedPeakDb: a.reconstructedPeakDb,
           samplePeakDbfs: a.samplePeakDbfs,
           maxMomentaryLufs: a.maxMomentaryLufs,
           maxShortTermLufs: a.maxShortTermLufs,

@@ -5,8 +5,10 @@
 // refusal (5xx) or too many attempts marks it failed. Rows are claimed with
 // FOR UPDATE SKIP LOCKED and a lease, so several processes may deliver side by
 // side without sending a message twice.
+import { createCipheriv, createDecipheriv, createHash, randomBytes } from "node:crypto";
 import type { Knex } from "knex";
 import { z } from "zod";
+import { env } from "../env.server.ts";
 import { getMailTransport, mailFromEnv, type MailTransport } from "./transport.server.ts";
 
 export const MAX_ATTEMPTS = 10;
@@ -28,7 +30,30 @@ const queueSchema = z.object({
   userId: z.uuid().nullish(),
   releaseId: z.uuid().nullish(),
   invoiceId: z.uuid().nullish(),
+  /** Put where SECRET_PLACEHOLDER stands in text and html when sending; stored sealed, dropped once sent. */
+  secret: z.string().min(1).max(500).nullish(),
 });
+
+/** Stands for the message's secret (e.g. an invitation token) in the stored body. */
+export const SECRET_PLACEHOLDER = "[[tidemark-secret]]";
+
+// AES-256-GCM with a key derived from SESSION_SECRET: the database alone
+// does not give the secret away; the sealed copy is deleted once sent.
+const sealKey = () => createHash("sha256").update(`tidemark-outbox-secret:${env.sessionSecret}`).digest();
+
+export function sealSecret(secret: string): string {
+  const iv = randomBytes(12);
+  const cipher = createCipheriv("aes-256-gcm", sealKey(), iv);
+  const sealed = Buffer.concat([cipher.update(secret, "utf8"), cipher.final()]);
+  return [iv, cipher.getAuthTag(), sealed].map((b) => b.toString("base64url")).join(".");
+}
+
+export function unsealSecret(value: string): string {
+  const [iv, tag, sealed] = value.split(".").map((part) => Buffer.from(part, "base64url"));
+  const decipher = createDecipheriv("aes-256-gcm", sealKey(), iv);
+  decipher.setAuthTag(tag);
+  return Buffer.concat([decipher.update(sealed), decipher.final()]).toString("utf8");
+}
 
 export type QueueEmailInput = z.input<typeof queueSchema>;
 
@@ -49,6 +74,7 @@ export interface OutboxEmail {
   user_id: string | null;
   release_id: string | null;
   invoice_id: string | null;
+  secret_sealed: string | null;
 }
 
 /** Writes a message to the outbox; `db` may be a transaction. Returns the row's id. */
@@ -65,6 +91,7 @@ export async function queueEmail(db: Knex | Knex.Transaction, input: QueueEmailI
       user_id: m.userId ?? null,
       release_id: m.releaseId ?? null,
       invoice_id: m.invoiceId ?? null,
+      secret_sealed: m.secret ? sealSecret(m.secret) : null,
     })
     .returning<{ id: string }[]>("id");
   return row!.id;
@@ -122,22 +149,24 @@ export async function deliverPending(db: Knex, options: DeliverOptions = {}): Pr
 
   for (const row of claimed) {
     try {
+      const secret = row.secret_sealed ? unsealSecret(row.secret_sealed) : null;
+      const reveal = (body: string) => (secret === null ? body : body.replaceAll(SECRET_PLACEHOLDER, secret));
       await transport.sendMail({
         from,
         to: row.to_address,
         subject: row.subject,
-        text: row.text,
-        ...(row.html ? { html: row.html } : {}),
+        text: reveal(row.text),
+        ...(row.html ? { html: reveal(row.html) } : {}),
         // The outbox id as Message-ID lets a receiver (and our tests) tell a resend from a new message.
         messageId: `<${row.id}@${senderDomain(from)}>`,
         headers: { "X-Tidemark-Kind": row.kind },
       });
-      await db("outbox_emails").where({ id: row.id }).update({ state: "sent", sent_at: db.fn.now(), last_error: null });
+      await db("outbox_emails").where({ id: row.id }).update({ state: "sent", sent_at: db.fn.now(), last_error: null, secret_sealed: null });
       result.sent.push(row.id);
     } catch (error) {
       const message = String((error as Error).message ?? error).slice(0, 2000);
       if (isPermanent(error) || row.attempts >= MAX_ATTEMPTS) {
-        await db("outbox_emails").where({ id: row.id }).update({ state: "failed", last_error: message });
+        await db("outbox_emails").where({ id: row.id }).update({ state: "failed", last_error: message, secret_sealed: null });
         result.failed.push(row.id);
       } else {
         await db("outbox_emails")

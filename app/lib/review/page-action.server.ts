@@ -23,7 +23,7 @@ const text = (max: number) => z.string().max(max, `at most ${max} characters`).d
 const optionalId = z.union([id, z.literal("").transform(() => undefined)]).optional();
 
 export const reviewActionSchema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("send"), renderId: id, message: text(4000) }),
+  z.object({ intent: z.literal("send"), renderId: id, message: text(4000), confirmNewReview: z.literal("yes").optional() }),
   z.object({ intent: z.literal("approve"), renderId: id }),
   z.object({ intent: z.literal("changes"), renderId: id, note: text(4000) }),
   z
@@ -31,6 +31,11 @@ export const reviewActionSchema = z.discriminatedUnion("intent", [
     .refine((v) => Boolean(v.renderId) !== Boolean(v.mixId), { message: "name a render or a mix", path: ["renderId"] }),
   z.object({ intent: z.enum(["resolve", "reopen"]), commentId: id }),
 ]);
+
+/** The review room's address for a track (and a render of it), as e-mails carry it. */
+export function reviewRoomLink(releaseId: string, trackId: string, renderId?: string): string {
+  return `${publicAppUrl()}/releases/${releaseId}/room?track=${trackId}${renderId ? `&render=${renderId}` : ""}`;
+}
 
 export type ReviewActionData = { error: string; intent: string; fieldErrors?: Partial<Record<string, string>> };
 
@@ -55,8 +60,8 @@ export async function reviewPageAction({ request, params }: { request: Request; 
   // What this user may act on here: the same list the page offers.
   const sources = await listCompareSources(user, { id: track.id, releaseId: release.id });
   const has = (type: "render" | "mix", sourceId: string | null | undefined) => Boolean(sourceId) && sources.some((s) => s.type === type && s.id === sourceId);
-  // E-mailed links use the public address, not the one this request came in on (a proxy's).
-  const linkTo = (renderId: string) => `${publicAppUrl()}/releases/${release.id}/tracks/${track.id}/compare?a=${renderId}`;
+  // E-mailed links use the public address, not the one this request came in on (a proxy's); a render's lead to the review room, which plays.
+  const linkTo = (renderId: string) => reviewRoomLink(release.id, track.id, renderId);
 
   try {
     switch (input.intent) {
@@ -78,7 +83,7 @@ export async function reviewPageAction({ request, params }: { request: Request; 
       }
       case "send":
         if (!has("render", input.renderId)) throw notFound();
-        await sendForReview({ renderId: input.renderId, senderId: user.id, message: input.message, link: linkTo(input.renderId) });
+        await sendForReview({ renderId: input.renderId, senderId: user.id, message: input.message, link: linkTo(input.renderId), confirmNewReview: input.confirmNewReview === "yes" });
         break;
       case "approve":
         if (!has("render", input.renderId)) throw notFound();
