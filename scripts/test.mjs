@@ -5,7 +5,7 @@
 //   --services   prepare, print the environment, and keep the services up (for working on tests)
 //   --no-e2e     skip the browser tests
 //   --unit=A,B   vitest on these paths only (--unit= skips vitest)
-//   --e2e=A,B    Playwright on these specs only
+//   --e2e=A,B    Playwright on these specs only (--e2e= skips the browser tests)
 import { rmSync } from "node:fs";
 import { spawnSync } from "node:child_process";
 import { root, portOffset, log, run, which, aptInstall, ensureNodeModules, spawnService, waitForPort, portFree, fail } from "./lib.mjs";
@@ -13,7 +13,7 @@ import { ensurePostgres, ensureDatabase, databaseUrl } from "./postgres.mjs";
 import { startFakes } from "./fakes.mjs";
 
 const servicesOnly = process.argv.includes("--services");
-const e2e = !process.argv.includes("--no-e2e") && !servicesOnly;
+const e2e = !process.argv.includes("--no-e2e") && !servicesOnly && process.argv.find((a) => a === "--e2e=") === undefined;
 const listArg = (name) => {
   const arg = process.argv.find((a) => a.startsWith(`--${name}=`));
   return arg === undefined ? null : arg.slice(name.length + 3).split(",").filter(Boolean);
