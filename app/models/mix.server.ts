@@ -10,10 +10,10 @@ import { Transform, type Readable } from "node:stream";
 import { pipeline } from "node:stream/promises";
 import type { Knex } from "knex";
 import { db } from "../lib/db.server.ts";
+import { analysisStateOf } from "./analysis-state.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { checkWavSamples, probeWav, WavFormatError, type WavFormatErrorCode } from "../../dsp/io/wav-reader.ts";
 import { enqueueAnalyzeMix } from "../jobs/queue.server.ts";
-import { toJsonValue } from "../jobs/json.ts";
 
 export type MixFormat = {
   sampleRateHz: number;
@@ -163,30 +163,17 @@ export async function listMixVersions(trackId: string): Promise<Mix[]> {
   return rows.map(fromRow);
 }
 
-/** Claims the analysis for a worker; false when there is nothing (left) to do. */
+const mixAnalysis = analysisStateOf("mixes");
+
+/** Claims the analysis for a worker; undefined when there is nothing (left) to do. */
 export async function startAnalysis(id: string, jobId: string): Promise<Mix | undefined> {
-  const [row] = await db("mixes")
-    .where({ id })
-    .whereIn("analysis_state", ["pending", "running", "failed"])
-    .update({ analysis_state: "running", analysis_error: null, analysis_job_id: jobId })
-    .returning<MixRow[]>(columns);
+  const row = await mixAnalysis.claim<MixRow>(id, jobId, columns);
   return row && fromRow(row);
 }
 
-export async function saveAnalysis(id: string, analysis: unknown): Promise<void> {
-  await db("mixes")
-    .where({ id })
-    .update({ analysis: JSON.stringify(toJsonValue(analysis)), analysis_state: "done", analysis_error: null });
-}
-
-export async function markAnalysisFailed(id: string, message: string): Promise<void> {
-  await db("mixes").where({ id }).whereNot({ analysis_state: "done" }).update({ analysis_state: "failed", analysis_error: message });
-}
-
-/** Back to "pending" while a retry waits (the worker stopped or the attempt failed). */
-export async function markAnalysisRetrying(id: string, message: string): Promise<void> {
-  await db("mixes").where({ id, analysis_state: "running" }).update({ analysis_state: "pending", analysis_error: message });
-}
+export const saveAnalysis = mixAnalysis.save;
+export const markAnalysisFailed = mixAnalysis.markFailed;
+export const markAnalysisRetrying = mixAnalysis.markRetrying;
 
 /** 2 GB (the default); UPLOAD_MAX_BYTES overrides. */
 export const DEFAULT_UPLOAD_MAX_BYTES = 2 * 1000 ** 3;

@@ -10,9 +10,9 @@ import os from "node:os";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { db } from "../lib/db.server.ts";
+import { analysisStateOf } from "./analysis-state.server.ts";
 import { storage } from "../lib/storage/storage.server.ts";
 import { enqueueAnalyzeReference } from "../jobs/queue.server.ts";
-import { toJsonValue } from "../jobs/json.ts";
 import { spoolWav, uploadMaxBytes, type AnalysisState, type MixFormat } from "./mix.server.ts";
 
 export type ReferenceTrack = MixFormat & {
@@ -154,26 +154,14 @@ export async function deleteReference(releaseId: string, id: string): Promise<bo
   return true;
 }
 
+const referenceAnalysis = analysisStateOf("reference_tracks");
+
 /** Claims the analysis for a worker; undefined when there is nothing (left) to do. */
 export async function startReferenceAnalysis(id: string, jobId: string): Promise<ReferenceTrack | undefined> {
-  const [row] = await db("reference_tracks")
-    .where({ id })
-    .whereIn("analysis_state", ["pending", "running", "failed"])
-    .update({ analysis_state: "running", analysis_error: null, analysis_job_id: jobId })
-    .returning<ReferenceRow[]>(columns);
+  const row = await referenceAnalysis.claim<ReferenceRow>(id, jobId, columns);
   return row && fromRow(row);
 }
 
-export async function saveReferenceAnalysis(id: string, analysis: unknown): Promise<void> {
-  await db("reference_tracks")
-    .where({ id })
-    .update({ analysis: JSON.stringify(toJsonValue(analysis)), analysis_state: "done", analysis_error: null });
-}
-
-export async function markReferenceAnalysisFailed(id: string, message: string): Promise<void> {
-  await db("reference_tracks").where({ id }).whereNot({ analysis_state: "done" }).update({ analysis_state: "failed", analysis_error: message });
-}
-
-export async function markReferenceAnalysisRetrying(id: string, message: string): Promise<void> {
-  await db("reference_tracks").where({ id, analysis_state: "running" }).update({ analysis_state: "pending", analysis_error: message });
-}
+export const saveReferenceAnalysis = referenceAnalysis.save;
+export const markReferenceAnalysisFailed = referenceAnalysis.markFailed;
+export const markReferenceAnalysisRetrying = referenceAnalysis.markRetrying;
